@@ -35,6 +35,10 @@ type Options struct {
 	// ReadFile reads an included file; nil means os.ReadFile. Paths are
 	// resolved relative to the including file's directory.
 	ReadFile func(path string) ([]byte, error)
+	// Lenient skips the completeness checks (missing balances, boundary
+	// conditions and starting values), for a notebook cell that only
+	// declares things while the model is being built.
+	Lenient bool
 }
 
 // decl is one declaration with the chunk it came from.
@@ -106,7 +110,9 @@ func Check(f *dsl.File, opts *Options) (*Model, diag.List) {
 	c.checkBoundaries()
 	c.checkInitials()
 	c.checkStages()
-	c.checkCompleteness()
+	if !opts.Lenient {
+		c.checkCompleteness()
+	}
 	c.checkRun()
 	c.checkSettings()
 	c.checkActions()

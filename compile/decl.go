@@ -371,6 +371,9 @@ func (c *checker) checkBalances() {
 	}
 	for _, b := range c.m.Bodies {
 		sort.Ints(b.Species)
+		if c.opts.Lenient {
+			continue
+		}
 		if len(b.Species) == 0 {
 			d := c.bodyDecl[b.Name].stmt.(*dsl.Body)
 			hint := "balance <species> in " + b.Name
@@ -905,8 +908,8 @@ func (c *checker) checkSettings() {
 		}
 		if p, ok := props["cluster"]; ok {
 			if v, ok := c.constant(p.Value, units.Dimensionless, "a clustering strength"); ok {
-				if v < 0 || v > 10 {
-					c.diags.Add("range", p.Value.Span(), "the clustering strength must lie between 0 (uniform) and 10, not %g", v)
+				if v < 1 || v > 1000 {
+					c.diags.Add("range", p.Value.Span(), "cluster is the ratio of the widest to the narrowest cell: from 1 (uniform) to 1000, not %g", v)
 				}
 				st.Cluster = v
 			}

@@ -221,10 +221,16 @@ type Run struct {
 
 // Settings are solver settings; zero values mean the defaults.
 type Settings struct {
+	// RTol and ATol are the integrator's relative and absolute (mol/m^3)
+	// tolerances.
 	RTol, ATol float64
-	Cells      int
-	Method     string
-	Cluster    float64
+	// Cells is the total number of cells across the body.
+	Cells int
+	// Method names the time integrator.
+	Method string
+	// Cluster is the ratio of the widest to the narrowest cell of the
+	// grid (1: uniform).
+	Cluster float64
 }
 
 // Action is a statement that produces output when the model runs.

@@ -1,0 +1,169 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"strings"
+
+	"github.com/massline/massline/dsl/diag"
+	"github.com/massline/massline/engine"
+)
+
+func versionString() string { return engine.Version }
+
+func cmdRun(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("run", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	out := fs.String("out", "", "directory for the plots (SVG) and numbers (JSON); default: next to the model")
+	if err := fs.Parse(args); err != nil {
+		return 2
+	}
+	if fs.NArg() != 1 {
+		fmt.Fprintln(stderr, "usage: massline run [--out DIR] FILE.mln")
+		return 2
+	}
+	path := fs.Arg(0)
+	src, err := os.ReadFile(path)
+	if err != nil {
+		fmt.Fprintf(stderr, "massline: %v\n", err)
+		return 1
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	res, diags, err := engine.RunSource(ctx, path, string(src), nil)
+	if len(diags) > 0 {
+		fmt.Fprint(stderr, diag.Text(diags, diag.Sources{path: string(src)}))
+	}
+	if err != nil {
+		var ee *engine.Error
+		if errors.As(err, &ee) || !diags.HasErrors() {
+			fmt.Fprintf(stderr, "massline: %v\n", err)
+		}
+		return 1
+	}
+	fmt.Fprint(stdout, res.String())
+	dir := *out
+	if dir == "" {
+		dir = filepath.Dir(path)
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		fmt.Fprintf(stderr, "massline: %v\n", err)
+		return 1
+	}
+	base := strings.TrimSuffix(filepath.Base(path), filepath.Ext(path))
+	written, err := writeOutputs(dir, base, res)
+	if err != nil {
+		fmt.Fprintf(stderr, "massline: %v\n", err)
+		return 1
+	}
+	for _, w := range written {
+		fmt.Fprintf(stdout, "wrote %s\n", w)
+	}
+	if !res.Passed() {
+		fmt.Fprintln(stderr, "massline: some expectations of the model failed")
+		return 1
+	}
+	return 0
+}
+
+// writeOutputs writes BASE.json and one BASE-N.svg per plot.
+func writeOutputs(dir, base string, res *engine.Result) ([]string, error) {
+	var written []string
+	js, err := res.JSON()
+	if err != nil {
+		return nil, err
+	}
+	p := filepath.Join(dir, base+".json")
+	if err := writeAtomic(p, append(js, '\n')); err != nil {
+		return nil, err
+	}
+	written = append(written, p)
+	for i, svg := range res.Plots() {
+		p := filepath.Join(dir, fmt.Sprintf("%s-%d.svg", base, i+1))
+		if err := writeAtomic(p, []byte(svg)); err != nil {
+			return nil, err
+		}
+		written = append(written, p)
+	}
+	return written, nil
+}
+
+// writeAtomic writes a file through a temporary file and a rename, so a
+// failure never leaves a half-written file behind.
+func writeAtomic(path string, data []byte) error {
+	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
+	if err != nil {
+		return err
+	}
+	if _, err := tmp.Write(data); err != nil {
+		tmp.Close()
+		os.Remove(tmp.Name())
+		return err
+	}
+	if err := tmp.Close(); err != nil {
+		os.Remove(tmp.Name())
+		return err
+	}
+	mode := os.FileMode(0o644)
+	if st, err := os.Stat(path); err == nil {
+		mode = st.Mode().Perm()
+	}
+	if err := os.Chmod(tmp.Name(), mode); err != nil {
+		os.Remove(tmp.Name())
+		return err
+	}
+	return os.Rename(tmp.Name(), path)
+}
+
+func cmdCheck(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("check", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	asJSON := fs.Bool("json", false, "print diagnostics as JSON")
+	if err := fs.Parse(args); err != nil {
+		return 2
+	}
+	if fs.NArg() == 0 {
+		fmt.Fprintln(stderr, "usage: massline check [--json] FILE...")
+		return 2
+	}
+	var all diag.List
+	sources := diag.Sources{}
+	failed := false
+	for _, path := range fs.Args() {
+		src, err := os.ReadFile(path)
+		if err != nil {
+			all = append(all, &diag.Diagnostic{Severity: diag.Error, Code: "io", Message: err.Error(), Subject: diag.Range{File: path}})
+			failed = true
+			continue
+		}
+		sources[path] = string(src)
+		_, diags := engine.CheckSource(path, string(src), nil)
+		if diags.HasErrors() {
+			failed = true
+		}
+		all = append(all, diags...)
+	}
+	if *asJSON {
+		b, err := diag.JSON(all)
+		if err != nil {
+			fmt.Fprintf(stderr, "massline: %v\n", err)
+			return 2
+		}
+		fmt.Fprintln(stdout, string(b))
+	} else {
+		fmt.Fprint(stderr, diag.Text(all, sources))
+		if !failed {
+			fmt.Fprintf(stdout, "%d file(s) checked: no errors\n", fs.NArg())
+		}
+	}
+	if failed {
+		return 1
+	}
+	return 0
+}

@@ -1,0 +1,176 @@
+package engine
+
+import (
+	"math"
+
+	"github.com/massline/massline/compile"
+	"github.com/massline/massline/compile/units"
+	"github.com/massline/massline/solvers"
+)
+
+func steadyState(p *solvers.Problem, y0 []float64, t float64) ([]float64, error) {
+	return solvers.Steady(p, y0, t, nil)
+}
+
+// value computes one result kind for a species at output index i.
+func (s *bodySolution) value(kind string, si, i int) float64 {
+	y := s.ys[i]
+	d := s.disc
+	t := s.times[i]
+	switch kind {
+	case "uptake", "release":
+		m0 := d.Content(s.ys[0], si)
+		mf := s.final[si]
+		den := mf - m0
+		if kind == "release" {
+			den = m0 - mf
+		}
+		if den == 0 || math.IsNaN(den) || math.Abs(den) < 1e-12*math.Max(math.Abs(m0), math.Abs(mf)) {
+			return math.NaN()
+		}
+		if kind == "release" {
+			return (m0 - d.Content(y, si)) / den
+		}
+		return (d.Content(y, si) - m0) / den
+	case "mean":
+		return d.Mean(y, si)
+	case "centre":
+		return d.Centre(t, y, si)
+	case "surface":
+		return d.Surface(t, y, si)
+	case "flux":
+		return d.SurfaceFlux(t, y, si)
+	case "bath":
+		return d.BathValue(y, si)
+	case "content":
+		return d.Content(y, si)
+	}
+	return math.NaN()
+}
+
+// seriesName maps a result kind to the name of its series in the JSON.
+var seriesName = map[string]string{
+	"uptake": "uptake_fraction", "release": "release_fraction", "mean": "mean", "centre": "centre",
+	"surface": "surface", "flux": "surface_flux", "bath": "bath", "content": "content",
+}
+
+// seriesUnit gives the SI unit of each series.
+var seriesUnit = map[string]string{
+	"uptake": "1", "release": "1", "mean": "mol/m^3", "centre": "mol/m^3", "surface": "mol/m^3",
+	"flux": "mol/(m^2·s)", "bath": "mol/m^3",
+}
+
+// fill adds this body's standard series and profiles to the result.
+func (s *bodySolution) fill(m *compile.Model, res *Result) {
+	res.Ledger = append(res.Ledger, s.ledger(m)...)
+	if m.Run.Steady {
+		for _, si := range s.body.Species {
+			r, c := s.disc.Profile(0, s.steady, si)
+			res.Profiles = append(res.Profiles, Profile{Time: math.Inf(1), Body: s.body.Name, Position: r,
+				Values: map[string][]float64{m.Species[si].Name: c}})
+			for _, kind := range []string{"mean", "centre", "surface", "flux"} {
+				res.Scalars = append(res.Scalars, Scalar{Name: "steady_" + seriesName[kind], Body: s.body.Name,
+					Species: m.Species[si].Name, Unit: seriesUnit[kind], Value: s.value(kind, si, 0)})
+			}
+		}
+		return
+	}
+	kinds := []string{"uptake", "centre", "mean", "surface", "flux"}
+	if s.disc.HasBath() {
+		kinds = append(kinds, "bath")
+	}
+	for _, si := range s.body.Species {
+		for _, kind := range kinds {
+			vals := make([]float64, len(m.Run.Times))
+			for j, t := range m.Run.Times {
+				vals[j] = s.value(kind, si, s.at(t))
+			}
+			res.Series = append(res.Series, Series{Name: seriesName[kind], Body: s.body.Name,
+				Species: m.Species[si].Name, Unit: seriesUnit[kind], Values: vals})
+		}
+	}
+	for _, t := range profileTimes(m) {
+		i := s.at(t)
+		p := Profile{Time: s.times[i], Body: s.body.Name, Values: map[string][]float64{}}
+		for _, si := range s.body.Species {
+			r, c := s.disc.Profile(s.times[i], s.ys[i], si)
+			p.Position = r
+			p.Values[m.Species[si].Name] = c
+		}
+		res.Profiles = append(res.Profiles, p)
+	}
+}
+
+// profileTimes are the times of the profiles in the JSON: those any show
+// statement asks for, or else up to six spread over the run.
+func profileTimes(m *compile.Model) []float64 {
+	var ts []float64
+	for _, a := range m.Actions {
+		if sh, ok := a.(*compile.Show); ok {
+			for _, it := range sh.Items {
+				if it.Kind == "profile" || it.Kind == "map" {
+					ts = append(ts, sh.At...)
+				}
+			}
+		}
+	}
+	if len(ts) > 0 {
+		return ts
+	}
+	n := len(m.Run.Times)
+	for k := 1; k <= 5; k++ {
+		ts = append(ts, m.Run.Times[(n-1)*k/5])
+	}
+	return append([]float64{m.Run.Times[0]}, ts...)
+}
+
+// ledger reports initial + inflow − consumed = final for each species.
+func (s *bodySolution) ledger(m *compile.Model) []Ledger {
+	var out []Ledger
+	last := len(s.ys) - 1
+	unit := "mol"
+	switch s.body.Shape {
+	case compile.Slab:
+		unit = "mol/m^2"
+	case compile.Cylinder, compile.HollowCylinder:
+		unit = "mol/m"
+	}
+	for _, si := range s.body.Species {
+		line, ok := s.disc.ledger(s.ys[0], s.ys[last], s.qs[last], si)
+		if !ok {
+			continue
+		}
+		l := Ledger{Body: s.body.Name, Species: m.Species[si].Name, Unit: unit,
+			Initial: line.Initial, Inflow: line.InflowInner + line.InflowOuter, Consumed: line.Consumed,
+			Final: line.Final, Closure: math.Abs(line.Closure)}
+		if m.Run.Steady {
+			l.Closure = 0
+		}
+		out = append(out, l)
+	}
+	return out
+}
+
+// timeTo finds the first time the uptake (or release) fraction reaches f,
+// by linear interpolation between the dense output times; NaN when it is
+// not reached in the run.
+func (s *bodySolution) timeTo(si int, f float64, kind string) float64 {
+	prev := s.value(kind, si, 0)
+	for i := 1; i < len(s.times); i++ {
+		v := s.value(kind, si, i)
+		if v >= f && prev < f {
+			w := (f - prev) / (v - prev)
+			t0, t1 := s.times[i-1], s.times[i]
+			if t0 > 0 {
+				// Uptake grows like a power of time early on: interpolate
+				// in log time.
+				return t0 * math.Pow(t1/t0, w)
+			}
+			return t0 + w*(t1-t0)
+		}
+		prev = v
+	}
+	return math.NaN()
+}
+
+var _ = units.Time

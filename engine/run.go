@@ -1,0 +1,189 @@
+package engine
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"sort"
+	"time"
+
+	"github.com/massline/massline/compile"
+	"github.com/massline/massline/compile/units"
+	"github.com/massline/massline/dsl"
+	"github.com/massline/massline/dsl/diag"
+	"github.com/massline/massline/solvers"
+)
+
+// Version is the version of massline that produced a result.
+const Version = "0.1.0"
+
+// Options controls a run. A nil *Options means the defaults.
+type Options struct {
+	// Settings override the model's solver settings where non-zero.
+	Settings compile.Settings
+}
+
+// Error is a failure to run a checked model (the solver could not
+// converge, a construct has no solver yet). It points at the statement
+// concerned.
+type Error struct {
+	Where diag.Range
+	Msg   string
+	Err   error
+}
+
+// Error implements error.
+func (e *Error) Error() string {
+	if e.Where.Start.IsValid() {
+		return e.Where.String() + ": " + e.Msg
+	}
+	return e.Msg
+}
+
+// Unwrap returns the underlying error.
+func (e *Error) Unwrap() error { return e.Err }
+
+// RunFile reads, parses, checks and runs a model file. Diagnostics of
+// the parse and check come back in diags; when there are errors, the
+// result is nil and err is diags.Err().
+func RunFile(ctx context.Context, path string, opts *Options) (*Result, diag.List, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	return RunSource(ctx, path, string(b), opts)
+}
+
+// RunSource is RunFile on text already read.
+func RunSource(ctx context.Context, name, src string, opts *Options) (*Result, diag.List, error) {
+	m, diags := CheckSource(name, src, nil)
+	if m == nil {
+		return nil, diags, diags.Err()
+	}
+	res, err := Run(ctx, m, opts)
+	return res, diags, err
+}
+
+// CheckSource parses and checks a model text.
+func CheckSource(name, src string, copts *compile.Options) (*compile.Model, diag.List) {
+	f, diags := dsl.Parse(name, src)
+	m, more := compile.Check(f, copts)
+	diags.Append(more)
+	diags.Sort()
+	if diags.HasErrors() {
+		return nil, diags
+	}
+	return m, diags
+}
+
+// Run solves a checked model and evaluates its output statements.
+func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			res, err = nil, &Error{Msg: fmt.Sprintf("internal error while solving (%v); please report this model", r)}
+		}
+	}()
+	if opts == nil {
+		opts = &Options{}
+	}
+	res = &Result{
+		Model:   ModelInfo{File: m.Name, SHA256: m.Hash, Version: Version},
+		Caution: Caution,
+	}
+	if m.Run == nil {
+		// A model without a run statement still prints and evaluates.
+		err = runActions(ctx, m, nil, res)
+		return res, err
+	}
+	set := settings(m.Settings, opts.Settings)
+	res.Solver = SolverInfo{Method: set.Method, RTol: set.RTol, ATol: set.ATol}
+	sols := map[string]*bodySolution{}
+	for _, b := range m.Bodies {
+		sol, err := solveBody(ctx, m, b, set)
+		if err != nil {
+			return nil, err
+		}
+		sols[b.Name] = sol
+		addStats(&res.Solver, sol)
+	}
+	res.Solver.WallSeconds = res.Solver.wall.Seconds()
+	if !m.Run.Steady {
+		res.Times = append([]float64(nil), m.Run.Times...)
+	}
+	for _, b := range m.Bodies {
+		sols[b.Name].fill(m, res)
+	}
+	err = runActions(ctx, m, sols, res)
+	return res, err
+}
+
+func settings(model, over compile.Settings) compile.Settings {
+	s := model
+	if over.RTol > 0 {
+		s.RTol = over.RTol
+	}
+	if over.ATol > 0 {
+		s.ATol = over.ATol
+	}
+	if over.Cells > 0 {
+		s.Cells = over.Cells
+	}
+	if over.Method != "" {
+		s.Method = over.Method
+	}
+	if over.Cluster > 0 {
+		s.Cluster = over.Cluster
+	}
+	if s.RTol == 0 {
+		s.RTol = DefaultRTol
+	}
+	if s.ATol == 0 {
+		s.ATol = 0 // chosen per body from the concentration scale
+	}
+	if s.Method == "" {
+		s.Method = "bdf"
+	}
+	return s
+}
+
+// DefaultRTol is the relative tolerance used when a model sets none.
+const DefaultRTol = 1e-6
+
+func addStats(si *SolverInfo, s *bodySolution) {
+	si.Steps += s.stats.Steps
+	si.Rejected += s.stats.Rejected
+	si.FuncEvals += s.stats.FuncEvals
+	si.JacEvals += s.stats.JacEvals
+	si.Factorizations += s.stats.Factorizations
+	si.wall += s.stats.Wall
+	si.Cells = max(si.Cells, s.cells)
+	if s.atol > si.ATol {
+		si.ATol = s.atol
+	}
+	if s.stats.Method != "" {
+		si.Method = s.stats.Method
+	}
+}
+
+// interruptErr turns a cancelled context into a clear error.
+func interruptErr(err error) error {
+	if errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) {
+		return &Error{Msg: "interrupted", Err: err}
+	}
+	return err
+}
+
+// unitOf returns the SI unit text of a dimension for tables and JSON.
+func unitOf(d units.Dim) string {
+	if d.IsZero() {
+		return "1"
+	}
+	return d.String()
+}
+
+var _ = time.Second
+var _ = math.Pi
+var _ = sort.Ints
+var _ solvers.Status
