@@ -35,6 +35,10 @@ type Options struct {
 	// ReadFile reads an included file; nil means os.ReadFile. Paths are
 	// resolved relative to the including file's directory.
 	ReadFile func(path string) ([]byte, error)
+	// Override replaces the values of constant quantities (let
+	// statements) by name, in SI units; sweeps and fits use it. A name
+	// that is not a constant quantity is ignored.
+	Override map[string]float64
 	// Lenient skips the completeness checks (missing balances, boundary
 	// conditions and starting values), for a notebook cell that only
 	// declares things while the model is being built.
@@ -391,6 +395,9 @@ func (c *checker) quantityOf(name string) *Quantity {
 	q := &Quantity{Name: name, Def: s.Name.Range, Dim: dim, Expr: e}
 	if v, isConst := e.IsConst(); isConst {
 		q.Value, q.Const = v, true
+		if ov, ok := c.opts.Override[name]; ok {
+			q.Value, q.Expr = ov, Const(ov)
+		}
 	}
 	if n, isNum := s.Value.(*dsl.Number); isNum && n.Unit != nil {
 		q.Unit = strings.TrimSpace(n.Unit.Text)
