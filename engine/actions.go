@@ -39,7 +39,7 @@ func runActions(ctx context.Context, m *compile.Model, sols map[string]*bodySolu
 			}
 			res.Outputs = append(res.Outputs, Output{Kind: "text", Text: b.String() + "\n"})
 		case *compile.Eval:
-			res.Outputs = append(res.Outputs, Output{Kind: "value", Text: a.Text + " = " + formatQuantity(a.Value, a.Dim, a.Unit)})
+			res.Outputs = append(res.Outputs, Output{Kind: "value", Text: formatQuantity(a.Value, a.Dim, a.Unit)})
 		case *compile.Show:
 			res.Outputs = append(res.Outputs, show(m, a, sols, res)...)
 		case *compile.Expect:

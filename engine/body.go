@@ -70,6 +70,10 @@ func outputTimes(m *compile.Model) (times []float64, dense bool) {
 		}
 	}
 	walk(m.Actions)
+	// Evenly spaced times for smooth plots: dense output makes them cheap.
+	for i := 1; i < 240; i++ {
+		times = append(times, m.Run.Until*float64(i)/240)
+	}
 	if dense {
 		// Log-spaced times for locating a fraction of uptake; the dense
 		// output of the integrator makes them nearly free.

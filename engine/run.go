@@ -116,6 +116,19 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 		sols[b.Name].fill(m, res)
 	}
 	err = runActions(ctx, m, sols, res)
+	// Every table and plot carries the footer: model hash, massline
+	// version, solver settings and the mass-ledger closure.
+	footer := res.Footer()
+	for _, o := range res.Outputs {
+		switch o.Kind {
+		case "table":
+			o.Table.Notes = append(o.Table.Notes, footer)
+		case "plot":
+			o.Plot.Notes = append(o.Plot.Notes, footer)
+		case "map":
+			o.Map.Notes = append(o.Map.Notes, footer)
+		}
+	}
 	return res, err
 }
 

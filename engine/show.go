@@ -133,13 +133,15 @@ func seriesOutputs(m *compile.Model, items []*compile.Result, scale string, sols
 		p.Title = label
 		for _, it := range g {
 			s := sols[it.Body]
+			// Plot every solution time (the output times and the dense
+			// ones), so curves are smooth whatever the table's spacing.
 			var x, y []float64
-			for _, tt := range m.Run.Times {
+			for i, tt := range s.times {
 				if xs == report.Log && tt <= 0 {
 					continue
 				}
 				x = append(x, tt/tu.Scale)
-				y = append(y, s.value(it.Kind, it.Species, s.at(tt)))
+				y = append(y, s.value(it.Kind, it.Species, i))
 			}
 			p.Series = append(p.Series, report.Series{Name: kindLabel[it.Kind] + " " + speciesLabel(m, it), X: x, Y: y})
 		}
@@ -166,31 +168,20 @@ func profileOutputs(m *compile.Model, it *compile.Result, at []float64, sols map
 		}
 		return []Output{{Kind: "plot", Plot: p}, {Kind: "table", Table: t}}
 	}
+	// A transient profile is shown as a plot; its numbers travel in the
+	// JSON (and in Result.Profiles).
 	if len(at) == 0 {
 		at = profileTimes(m)
 	}
 	p := &report.Plot{Title: "profiles of " + name, Ordered: true,
 		X: report.Axis{Label: "position r", Unit: lu.Name}, Y: report.Axis{Label: "concentration", Unit: "mol/m^3"}}
-	t := &report.Table{Title: "Profiles of " + name, Columns: []report.Column{{Name: "position r", Unit: lu.Name}}}
-	var cols [][]float64
-	var rr []float64
 	for _, tt := range at {
 		i := s.at(tt)
 		r, c := s.disc.Profile(s.times[i], s.ys[i], it.Species)
-		rr = r
 		label := "t = " + timeLabel(tt)
 		p.Series = append(p.Series, report.Series{Name: label, X: scaled(r, lu.Scale), Y: c})
-		t.Columns = append(t.Columns, report.Column{Name: label, Unit: "mol/m^3"})
-		cols = append(cols, c)
 	}
-	for i := range rr {
-		row := []float64{rr[i] / lu.Scale}
-		for _, c := range cols {
-			row = append(row, c[i])
-		}
-		t.Rows = append(t.Rows, row)
-	}
-	return []Output{{Kind: "plot", Plot: p}, {Kind: "table", Table: t}}
+	return []Output{{Kind: "plot", Plot: p}}
 }
 
 func mapOutput(m *compile.Model, it *compile.Result, sols map[string]*bodySolution) Output {

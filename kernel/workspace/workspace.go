@@ -112,8 +112,8 @@ func (w *Workspace) Execute(ctx context.Context, code string, sink kernel.Sink) 
 			sink.Display(Bundle(o))
 		}
 	}
-	if needsRun && len(res.Ledger) > 0 {
-		sink.Display(footerBundle(res))
+	if needsRun && len(res.Outputs) > 0 {
+		sink.Stream("stdout", "Caution: "+res.Caution+"\n")
 	}
 	if reset {
 		w.cells = nil
@@ -180,19 +180,6 @@ func finite(v []float64) []any {
 		}
 	}
 	return out
-}
-
-func footerBundle(res *engine.Result) kernel.Bundle {
-	text := res.Footer() + "\nCaution: " + res.Caution
-	html := `<p style="font-size:smaller;opacity:0.75">` + escape(res.Footer()) + "<br>" + escape("Caution: "+res.Caution) + "</p>"
-	return kernel.Bundle{"text/plain": text, "text/html": html,
-		"application/json": map[string]any{"model_sha256": res.Model.SHA256, "massline_version": res.Model.Version,
-			"solver": res.Solver, "ledger": res.Ledger, "checks": res.Checks, "caution": res.Caution}}
-}
-
-func escape(s string) string {
-	r := strings.NewReplacer("&", "&amp;", "<", "&lt;", ">", "&gt;", `"`, "&quot;")
-	return r.Replace(s)
 }
 
 // cellError renders diagnostics as the error of a cell: the traceback
