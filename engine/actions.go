@@ -21,7 +21,7 @@ type Output struct {
 }
 
 // runActions evaluates show, expect, print and value statements.
-func runActions(ctx context.Context, m *compile.Model, sols map[string]*bodySolution, res *Result) error {
+func runActions(ctx context.Context, m *compile.Model, sols map[string]*bodySolution, res *Result, opts *Options) error {
 	for _, a := range m.Actions {
 		if err := ctx.Err(); err != nil {
 			return interruptErr(err)
@@ -45,8 +45,12 @@ func runActions(ctx context.Context, m *compile.Model, sols map[string]*bodySolu
 		case *compile.Expect:
 			c := expect(m, a, sols)
 			res.Checks = append(res.Checks, c)
-		case *compile.Sweep, *compile.Fit:
-			return &Error{Where: a.Span(), Msg: "sweeps and fits are checked but cannot be run by this version of massline yet"}
+		case *compile.Sweep:
+			if err := runSweep(ctx, m, a, opts, res); err != nil {
+				return err
+			}
+		case *compile.Fit:
+			return &Error{Where: a.Span(), Msg: "not solvable yet: fitting is checked but cannot be run by this version of massline"}
 		}
 	}
 	if len(res.Checks) > 0 {

@@ -23,6 +23,11 @@ const Version = "0.1.0"
 type Options struct {
 	// Settings override the model's solver settings where non-zero.
 	Settings compile.Settings
+	// Recheck rebuilds the model with changed quantities, for sweeps;
+	// RunSource sets it. Without it a sweep is refused.
+	Recheck Recheck
+
+	overrides map[string]float64 // values fixed by enclosing sweeps
 }
 
 // Error is a failure to run a checked model (the solver could not
@@ -58,12 +63,39 @@ func RunFile(ctx context.Context, path string, opts *Options) (*Result, diag.Lis
 
 // RunSource is RunFile on text already read.
 func RunSource(ctx context.Context, name, src string, opts *Options) (*Result, diag.List, error) {
-	m, diags := CheckSource(name, src, nil)
-	if m == nil {
+	f, diags := dsl.Parse(name, src)
+	m, more := compile.Check(f, nil)
+	diags.Append(more)
+	diags.Sort()
+	if diags.HasErrors() {
 		return nil, diags, diags.Err()
 	}
-	res, err := Run(ctx, m, opts)
+	o := Options{}
+	if opts != nil {
+		o = *opts
+	}
+	if o.Recheck == nil {
+		o.Recheck = RecheckFunc(f, nil)
+	}
+	res, err := Run(ctx, m, &o)
 	return res, diags, err
+}
+
+// RecheckFunc returns a Recheck that checks f again (with the given
+// options, e.g. a notebook's earlier cells) with values overridden.
+func RecheckFunc(f *dsl.File, base *compile.Options) Recheck {
+	return func(override map[string]float64) (*compile.Model, error) {
+		o := compile.Options{}
+		if base != nil {
+			o = *base
+		}
+		o.Override = override
+		m, diags := compile.Check(f, &o)
+		if m == nil {
+			return nil, diags.Err()
+		}
+		return m, nil
+	}
 }
 
 // CheckSource parses and checks a model text.
@@ -94,7 +126,7 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 	}
 	if m.Run == nil {
 		// A model without a run statement still prints and evaluates.
-		err = runActions(ctx, m, nil, res)
+		err = runActions(ctx, m, nil, res, opts)
 		return res, err
 	}
 	set := settings(m.Settings, opts.Settings)
@@ -115,7 +147,7 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 	for _, b := range m.Bodies {
 		sols[b.Name].fill(m, res)
 	}
-	err = runActions(ctx, m, sols, res)
+	err = runActions(ctx, m, sols, res, opts)
 	// Every table and plot carries the footer: model hash, massline
 	// version, solver settings and the mass-ledger closure.
 	footer := res.Footer()

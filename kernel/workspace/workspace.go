@@ -84,7 +84,8 @@ func (w *Workspace) Execute(ctx context.Context, code string, sink kernel.Sink) 
 	var res *engine.Result
 	var err error
 	if needsRun {
-		res, err = engine.Run(ctx, m, nil)
+		opts := &engine.Options{Recheck: engine.RecheckFunc(f, &compile.Options{Previous: w.cells, Redefine: true})}
+		res, err = engine.Run(ctx, m, opts)
 	} else {
 		res, err = engine.Run(ctx, withoutRun(m), nil)
 	}
