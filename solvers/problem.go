@@ -27,4 +27,11 @@ type Problem struct {
 	NQuad int
 	// Quad evaluates dq = g(t, y); used only when NQuad > 0.
 	Quad func(t float64, y, dq []float64)
+	// QuadJac, optional, fills G with ∂g/∂y at (t, y), row-major NQuad×N
+	// (G[i*N+j] = ∂g_i/∂y_j); G arrives zeroed. It is evaluated together
+	// with Jac, at the same point. When the quadratures are a conservation
+	// ledger (w·f = g for a fixed w) and Jac and QuadJac are exact, the
+	// integrator uses them to keep the ledger closed to round-off even for
+	// a nonlinear f. It should be given only together with Jac.
+	QuadJac func(t float64, y []float64, G []float64)
 }
