@@ -28,6 +28,8 @@ usage:
                                         install the Jupyter kernelspec
   massline kernel list | remove         list or remove installed kernelspecs
   massline kernel -f CONNECTION_FILE    run as a Jupyter kernel (started by Jupyter)
+  massline bench [--quick] [--no-scipy] work-precision table against the series solutions, side by side
+                                        with a uniform-grid method of lines in scipy (Debian python3-scipy)
   massline version                      print the version
 `
 
@@ -51,6 +53,8 @@ func run(args []string, stdout, stderr io.Writer) (code int) {
 		return cmdCheck(args[1:], stdout, stderr)
 	case "fmt":
 		return cmdFmt(args[1:], stdout, stderr)
+	case "bench":
+		return cmdBench(args[1:], stdout, stderr)
 	case "kernel":
 		return cmdKernel(args[1:], stdout, stderr)
 	case "version", "--version", "-version":

@@ -18,6 +18,9 @@ import (
 func versionString() string { return engine.Version }
 
 func cmdRun(args []string, stdout, stderr io.Writer) int {
+	if isNotebookRun(args) {
+		return cmdRunNotebook(args, stdout, stderr)
+	}
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	out := fs.String("out", "", "directory for the plots (SVG) and numbers (JSON); default: next to the model")

@@ -1,0 +1,336 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
+	"sort"
+	"strings"
+	"text/tabwriter"
+	"time"
+
+	"github.com/massline/massline/compile"
+	"github.com/massline/massline/compile/fv"
+	"github.com/massline/massline/dsl"
+	"github.com/massline/massline/solvers"
+	"github.com/massline/massline/solvers/analytic"
+)
+
+// benchProblem is one benchmark problem: a model, the times at which a
+// quantity is compared with its series solution, and that quantity.
+type benchProblem struct {
+	name, what string
+	model      string
+	times      []float64
+	ref        []float64
+	scale      float64 // absorbed amounts are divided by it
+	absorbed   bool    // compare the absorbed amount (else the uptake fraction)
+}
+
+const p1Model = `massline 1
+species s { diffusivity = 1e-9 [m^2/s] }
+body b = sphere(radius = 1 [mm])
+balance s in b
+boundary b.centre: symmetry
+boundary b.surface: film(coefficient = 1e-5 [m/s], bulk = 1 [mol/m^3])
+initially b: s = 0 [mol/m^3]
+run until 1000 [s] at 10 [s], 100 [s]
+`
+
+const p2Model = `massline 1
+species s { diffusivity = 1e-9 [m^2/s] }
+body b = sphere(radius = 1 [mm])
+balance s in b { source = -0.01 [1/s] * s }
+boundary b.centre: symmetry
+boundary b.surface: fixed(1 [mol/m^3])
+initially b: s = 0 [mol/m^3]
+run until 1000 [s] at 100 [s]
+`
+
+// benchProblems builds P1 and P2 with their reference values.
+//
+// source: P1 — sphere with surface film, Biot number 10: J. Crank, The
+// Mathematics of Diffusion, 2nd ed. (1975), eq. 6.41 (Mt/M∞ series with
+// roots of β cot β + L − 1 = 0, from memory), as implemented in
+// solvers/analytic.Film. P2 — first-order consumption with fixed surface
+// value, Danckwerts' transformation (Crank, 2nd ed., §14.2), as in
+// solvers/analytic.Reaction.
+func benchProblems() ([]benchProblem, error) {
+	a, D := 1e-3, 1e-9
+	film, err := analytic.NewFilm(analytic.Sphere, 10)
+	if err != nil {
+		return nil, err
+	}
+	p1 := benchProblem{name: "P1", what: "sphere, film Bi = 10: uptake fraction at 10, 100, 1000 s", model: p1Model, times: []float64{10, 100, 1000}}
+	for _, t := range p1.times {
+		v, err := film.Uptake(D * t / (a * a))
+		if err != nil {
+			return nil, err
+		}
+		p1.ref = append(p1.ref, v)
+	}
+	phi := a * math.Sqrt(0.01/D)
+	rx, err := analytic.NewReaction(analytic.Sphere, phi)
+	if err != nil {
+		return nil, err
+	}
+	vp := 4.0 / 3.0 * math.Pi * a * a * a // amount Vp·Cs with Cs = 1 mol/m^3
+	p2 := benchProblem{name: "P2", what: fmt.Sprintf("sphere, fixed surface, k = 0.01 1/s (Thiele %.3g): amount absorbed at 100, 1000 s", phi),
+		model: p2Model, times: []float64{100, 1000}, absorbed: true, scale: vp}
+	for _, t := range p2.times {
+		v, err := rx.Absorbed(D * t / (a * a))
+		if err != nil {
+			return nil, err
+		}
+		p2.ref = append(p2.ref, v)
+	}
+	return []benchProblem{p1, p2}, nil
+}
+
+// benchRow is one point of the work-precision table.
+type benchRow struct {
+	Problem string  `json:"problem"`
+	Method  string  `json:"method"`
+	Cells   int     `json:"cells"`
+	RTol    float64 `json:"rtol"`
+	Seconds float64 `json:"seconds"`
+	Error   float64 `json:"error"`
+}
+
+// solveOnce lowers, builds and integrates a benchmark model and returns
+// the largest relative error against the reference.
+func solveOnce(p benchProblem, m *compile.Model, set compile.Settings, it *solvers.Integrator) (float64, error) {
+	b := m.Bodies[0]
+	low, err := compile.Lower(m, b, b.Conditions, set)
+	if err != nil {
+		return 0, err
+	}
+	d, err := fv.Build(low.Spec)
+	if err != nil {
+		return 0, err
+	}
+	prob := d.Problem()
+	r, err := it.Integrate(context.Background(), prob, 0, d.Y0(), p.times, &solvers.Settings{RTol: set.RTol, ATol: set.RTol * 1e-3})
+	if err != nil {
+		return 0, err
+	}
+	ones := make([]float64, d.N())
+	for i := 0; i < d.Cells(); i++ {
+		ones[i] = 1
+	}
+	full, _ := d.Content(ones, 0)
+	worst := 0.0
+	for i := range p.times {
+		var got float64
+		if p.absorbed {
+			got = (r.Q[i][fv.QuadOuter] + r.Q[i][fv.QuadInner]) / p.scale
+		} else {
+			c, _ := d.Content(r.Y[i], 0)
+			got = c / full
+		}
+		worst = math.Max(worst, math.Abs(got-p.ref[i])/math.Abs(p.ref[i]))
+	}
+	return worst, nil
+}
+
+// timeIt returns the best wall time of repeated calls (at least reps, and
+// at least 50 ms in all).
+func timeIt(reps int, f func() error) (float64, error) {
+	best := math.Inf(1)
+	start := time.Now()
+	for i := 0; i < reps || time.Since(start) < 50*time.Millisecond; i++ {
+		t0 := time.Now()
+		if err := f(); err != nil {
+			return 0, err
+		}
+		best = math.Min(best, time.Since(t0).Seconds())
+		if i > 1000 {
+			break
+		}
+	}
+	return best, nil
+}
+
+func benchMassline(p benchProblem, quick bool) ([]benchRow, error) {
+	f, diags := dsl.Parse(p.name, p.model)
+	m, more := compile.Check(f, nil)
+	if m == nil {
+		return nil, fmt.Errorf("%v %v", diags, more)
+	}
+	cells := []int{0, 20, 40, 80, 160, 320}
+	rtols := []float64{1e-5, 1e-7, 1e-9}
+	if quick {
+		cells, rtols = []int{0, 40}, []float64{1e-6}
+	}
+	var rows []benchRow
+	it := &solvers.Integrator{}
+	for _, n := range cells {
+		for _, rtol := range rtols {
+			set := compile.Settings{RTol: rtol, Cells: n}
+			var e float64
+			sec, err := timeIt(5, func() error {
+				var err error
+				e, err = solveOnce(p, m, set, it)
+				return err
+			})
+			if err != nil {
+				return nil, err
+			}
+			label := n
+			if n == 0 {
+				label = defaultCells(m, set)
+			}
+			method := "massline"
+			if n == 0 {
+				method = "massline (default grid)"
+			}
+			rows = append(rows, benchRow{Problem: p.name, Method: method, Cells: label, RTol: rtol, Seconds: sec, Error: e})
+		}
+	}
+	return rows, nil
+}
+
+func defaultCells(m *compile.Model, set compile.Settings) int {
+	b := m.Bodies[0]
+	low, err := compile.Lower(m, b, b.Conditions, set)
+	if err != nil {
+		return 0
+	}
+	d, err := fv.Build(low.Spec)
+	if err != nil {
+		return 0
+	}
+	return d.Cells()
+}
+
+// benchScipy runs the scipy reference script side by side.
+func benchScipy(p benchProblem, script string, quick bool) ([]benchRow, error) {
+	ref, _ := json.Marshal(map[string]any{"times": p.times, "values": p.ref, "scale": p.scale})
+	args := []string{script, p.name, string(ref)}
+	if quick {
+		args = append(args, "100,400")
+	}
+	out, err := exec.Command("/usr/bin/python3", args...).Output()
+	if err != nil {
+		return nil, fmt.Errorf("scipy reference: %v", err)
+	}
+	var rs []benchRow
+	if err := json.Unmarshal(out, &rs); err != nil {
+		return nil, fmt.Errorf("scipy reference output: %v", err)
+	}
+	for i := range rs {
+		rs[i].Problem = p.name
+		rs[i].Method = "scipy " + rs[i].Method
+	}
+	return rs, nil
+}
+
+// bestAt returns the fastest row of a method family reaching err ≤ target.
+func bestAt(rows []benchRow, prefix string, target float64) (benchRow, bool) {
+	var best benchRow
+	found := false
+	for _, r := range rows {
+		if strings.HasPrefix(r.Method, prefix) && r.Error <= target && (!found || r.Seconds < best.Seconds) {
+			best, found = r, true
+		}
+	}
+	return best, found
+}
+
+func cmdBench(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("bench", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	quick := fs.Bool("quick", false, "a few points only")
+	noScipy := fs.Bool("no-scipy", false, "skip the scipy reference")
+	asJSON := fs.Bool("json", false, "print the rows as JSON")
+	script := fs.String("scipy-script", "", "path of the scipy reference script (default: testdata/bench/scipy_mol.py)")
+	if err := fs.Parse(args); err != nil {
+		return 2
+	}
+	if *script == "" {
+		*script = findScript()
+	}
+	probs, err := benchProblems()
+	if err != nil {
+		fmt.Fprintf(stderr, "massline: bench: %v\n", err)
+		return 1
+	}
+	var all []benchRow
+	for _, p := range probs {
+		rows, err := benchMassline(p, *quick)
+		if err != nil {
+			fmt.Fprintf(stderr, "massline: bench %s: %v\n", p.name, err)
+			return 1
+		}
+		all = append(all, rows...)
+		if !*noScipy {
+			rs, err := benchScipy(p, *script, *quick)
+			if err != nil {
+				fmt.Fprintf(stderr, "massline: bench %s: %v (use --no-scipy to skip)\n", p.name, err)
+				return 1
+			}
+			all = append(all, rs...)
+		}
+	}
+	if *asJSON {
+		b, _ := json.MarshalIndent(all, "", "  ")
+		fmt.Fprintln(stdout, string(b))
+		return 0
+	}
+	fmt.Fprintf(stdout, "massline bench — %s, GOMAXPROCS %d, %s\n", runtime.Version(), runtime.GOMAXPROCS(0), time.Now().UTC().Format("2006-01-02"))
+	for _, p := range probs {
+		fmt.Fprintf(stdout, "\n%s: %s\n", p.name, p.what)
+		var rows []benchRow
+		for _, r := range all {
+			if r.Problem == p.name {
+				rows = append(rows, r)
+			}
+		}
+		sort.SliceStable(rows, func(i, j int) bool { return rows[i].Method < rows[j].Method })
+		tw := tabwriter.NewWriter(stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
+		fmt.Fprintln(tw, "method\tcells\trtol\ttime [ms]\trel. error\t")
+		for _, r := range rows {
+			fmt.Fprintf(tw, "%s\t%d\t%.0e\t%.3f\t%.2e\t\n", r.Method, r.Cells, r.RTol, r.Seconds*1e3, r.Error)
+		}
+		tw.Flush()
+		for _, target := range []float64{1e-4, 1e-6} {
+			ml, ok := bestAt(rows, "massline", target)
+			if !ok {
+				fmt.Fprintf(stdout, "  error ≤ %.0e: massline did not reach it\n", target)
+				continue
+			}
+			line := fmt.Sprintf("  error ≤ %.0e: massline %.3f ms (%d cells, rtol %.0e)", target, ml.Seconds*1e3, ml.Cells, ml.RTol)
+			for _, sp := range []string{"scipy BDF", "scipy LSODA"} {
+				if s, ok := bestAt(rows, sp, target); ok {
+					line += fmt.Sprintf("; %s %.2f ms (%d cells) → %.0f× faster", sp, s.Seconds*1e3, s.Cells, s.Seconds/ml.Seconds)
+				} else if !*noScipy {
+					line += fmt.Sprintf("; %s did not reach it", sp)
+				}
+			}
+			fmt.Fprintln(stdout, line)
+		}
+	}
+	return 0
+}
+
+// findScript looks for the scipy script next to the working directory or
+// the executable.
+func findScript() string {
+	cands := []string{"testdata/bench/scipy_mol.py", "../../testdata/bench/scipy_mol.py"}
+	if exe, err := os.Executable(); err == nil {
+		cands = append(cands, filepath.Join(filepath.Dir(exe), "testdata/bench/scipy_mol.py"))
+	}
+	for _, c := range cands {
+		if _, err := os.Stat(c); err == nil {
+			return c
+		}
+	}
+	return cands[0]
+}
