@@ -89,7 +89,7 @@ func TestFixedSurfaceUptake(t *testing.T) {
 	}
 }
 
-// TestSpatialOrder solves on three grids (20, 40, 80 cells) (uniform cells, tight time
+// TestSpatialOrder solves on four uniform grids (40…320 cells) (uniform cells, tight time
 // tolerance) and checks that the observed order of the spatial error of
 // the uptake fraction at Fo = 0.1 is about 2.
 //
@@ -103,7 +103,7 @@ func TestSpatialOrder(t *testing.T) {
 			ref, _ := analytic.NewFixedSurface(shape)
 			want, _ := ref.Uptake(fo)
 			var errs []float64
-			for _, n := range []int{20, 40, 80} {
+			for _, n := range []int{40, 80, 160, 320} {
 				set := fmt.Sprintf("settings { rtol = 1e-11, atol = 1e-16 [mol/m^3], cells = %d, cluster = 1 }", n)
 				res, diags, err := RunSource(context.Background(), name+".mln", modelFor(name, a, D, []float64{fo}, set), nil)
 				if err != nil {
@@ -115,9 +115,9 @@ func TestSpatialOrder(t *testing.T) {
 			for i := 0; i+1 < len(errs); i++ {
 				t.Logf("%s: errors %.3e → %.3e, observed order %.2f", name, errs[i], errs[i+1], math.Log2(errs[i]/errs[i+1]))
 			}
-			// The sphere approaches order 2 from above (2.46, 2.32, 2.20 on
-			// 10…80 cells); judge the finest pair.
-			order := math.Log2(errs[1] / errs[2])
+			// The sphere approaches order 2 slowly (1.72, 1.87, 1.94 on
+			// 40…320 uniform cells); judge the finest pair.
+			order := math.Log2(errs[len(errs)-2] / errs[len(errs)-1])
 			if order < 1.8 || order > 2.3 {
 				t.Errorf("%s: observed spatial order %.2f on the finest grids, want about 2", name, order)
 			}
