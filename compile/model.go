@@ -231,6 +231,12 @@ type Settings struct {
 	// Cluster is the ratio of the widest to the narrowest cell of the
 	// grid (1: uniform).
 	Cluster float64
+	// Extrapolate combines solutions on two grids by Richardson
+	// extrapolation (settings key extrapolate = on).
+	Extrapolate bool
+	// Estimate reports estimates of the spatial and temporal error
+	// (settings key estimate = on).
+	Estimate bool
 }
 
 // Action is a statement that produces output when the model runs.

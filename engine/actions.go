@@ -50,7 +50,9 @@ func runActions(ctx context.Context, m *compile.Model, sols map[string]*bodySolu
 				return err
 			}
 		case *compile.Fit:
-			return &Error{Where: a.Span(), Msg: "not solvable yet: fitting is checked but cannot be run by this version of massline"}
+			if err := runFit(ctx, m, a, opts, res); err != nil {
+				return err
+			}
 		}
 	}
 	if len(res.Checks) > 0 {

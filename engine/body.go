@@ -28,6 +28,9 @@ type bodySolution struct {
 	// steady is the steady state (steady runs only).
 	steady []float64
 	notes  []string
+	// coarse, when set, is the same body on half the cells; values are
+	// then Richardson-extrapolated.
+	coarse *bodySolution
 }
 
 // at returns the index of time t in times (which contains it).

@@ -12,8 +12,18 @@ func steadyState(p *solvers.Problem, y0 []float64, t float64) ([]float64, error)
 	return solvers.Steady(p, y0, t, nil)
 }
 
-// value computes one result kind for a species at output index i.
+// value computes one result kind for a species at output index i,
+// Richardson-extrapolated when a coarse companion solution is present.
 func (s *bodySolution) value(kind string, si, i int) float64 {
+	v := s.rawValue(kind, si, i)
+	if s.coarse != nil && i < len(s.coarse.times) && s.coarse.times[i] == s.times[i] {
+		return (4*v - s.coarse.rawValue(kind, si, i)) / 3
+	}
+	return v
+}
+
+// rawValue computes one result kind on this grid alone.
+func (s *bodySolution) rawValue(kind string, si, i int) float64 {
 	y := s.ys[i]
 	d := s.disc
 	t := s.times[i]
@@ -174,3 +184,34 @@ func (s *bodySolution) timeTo(si int, f float64, kind string) float64 {
 }
 
 var _ = units.Time
+
+// estimates compares a solution with the same on half the cells (and,
+// when tight is not nil, with a tighter time tolerance).
+func estimates(m *compile.Model, fine, coarse, tight *bodySolution, extrapolated bool) []Estimate {
+	var out []Estimate
+	kinds := []string{"uptake", "mean", "centre", "surface", "flux"}
+	if fine.disc.HasBath() {
+		kinds = append(kinds, "bath")
+	}
+	for _, si := range fine.body.Species {
+		for _, kind := range kinds {
+			e := Estimate{Body: fine.body.Name, Species: m.Species[si].Name, Series: seriesName[kind], Unit: seriesUnit[kind], Extrapolated: extrapolated}
+			for i := range fine.times {
+				if i >= len(coarse.times) || coarse.times[i] != fine.times[i] {
+					continue
+				}
+				vf := fine.rawValue(kind, si, i)
+				if d := math.Abs(vf-coarse.rawValue(kind, si, i)) / 3; d > e.Spatial {
+					e.Spatial = d
+				}
+				if tight != nil && i < len(tight.times) && tight.times[i] == fine.times[i] {
+					if d := math.Abs(vf - tight.rawValue(kind, si, i)); d > e.Temporal {
+						e.Temporal = d
+					}
+				}
+			}
+			out = append(out, e)
+		}
+	}
+	return out
+}

@@ -17,6 +17,8 @@ type Result struct {
 	Ledger   []Ledger   `json:"ledger"`
 	Checks   []Check    `json:"checks,omitempty"`
 	Scalars  []Scalar   `json:"scalars,omitempty"`
+	// Estimates are error estimates, when asked for.
+	Estimates []Estimate `json:"error_estimates,omitempty"`
 	Caution  string     `json:"caution"`
 
 	// Outputs are the rendered outputs in the order the model asked for
@@ -120,4 +122,18 @@ func (r *Result) Find(name, body, species string) *Series {
 		}
 	}
 	return nil
+}
+
+// Estimate is the estimated error of one series over the run: the
+// largest over the output times.
+type Estimate struct {
+	Body     string  `json:"body"`
+	Species  string  `json:"species"`
+	Series   string  `json:"series"`
+	Unit     string  `json:"unit"`
+	Spatial  float64 `json:"spatial"`
+	Temporal float64 `json:"temporal"`
+	// Extrapolated tells whether the reported series are the Richardson
+	// combination (their remaining error is then smaller than Spatial).
+	Extrapolated bool `json:"extrapolated"`
 }

@@ -27,6 +27,16 @@ type Options struct {
 	// RunSource sets it. Without it a sweep is refused.
 	Recheck Recheck
 
+	// Extrapolate solves every body on two grids (N/2 and N cells of the
+	// same family) and combines them by Richardson extrapolation,
+	// (4·v_N − v_N/2)/3, which cancels the leading h² term of the spatial
+	// error (L. F. Richardson, Phil. Trans. R. Soc. A 210 (1911) 307–357).
+	Extrapolate bool
+	// Estimate adds an estimate of the spatial error (|v_N − v_N/2|/3,
+	// the Richardson estimate of the error of v_N) and of the temporal
+	// error (the change when rtol is divided by 100) of each series.
+	Estimate bool
+
 	overrides map[string]float64 // values fixed by enclosing sweeps
 }
 
@@ -132,13 +142,39 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 	set := settings(m.Settings, opts.Settings)
 	res.Solver = SolverInfo{Method: set.Method, RTol: set.RTol, ATol: set.ATol}
 	sols := map[string]*bodySolution{}
+	extrapolate := opts.Extrapolate || m.Settings.Extrapolate
+	estimate := opts.Estimate || m.Settings.Estimate
 	for _, b := range m.Bodies {
 		sol, err := solveBody(ctx, m, b, set)
 		if err != nil {
 			return nil, err
 		}
-		sols[b.Name] = sol
 		addStats(&res.Solver, sol)
+		if (extrapolate || estimate) && !m.Run.Steady {
+			coarse := set
+			coarse.Cells = max(3, sol.cells/2)
+			c, err := solveBody(ctx, m, b, coarse)
+			if err != nil {
+				return nil, err
+			}
+			addStats(&res.Solver, c)
+			var tight *bodySolution
+			if estimate {
+				ts := set
+				ts.RTol = set.RTol / 100
+				ts.Cells = sol.cells
+				if tight, err = solveBody(ctx, m, b, ts); err != nil {
+					return nil, err
+				}
+				addStats(&res.Solver, tight)
+			}
+			res.Estimates = append(res.Estimates, estimates(m, sol, c, tight, extrapolate)...)
+			if extrapolate {
+				sol.coarse = c
+				res.Solver.Method += " + Richardson extrapolation in space"
+			}
+		}
+		sols[b.Name] = sol
 	}
 	res.Solver.WallSeconds = res.Solver.wall.Seconds()
 	if !m.Run.Steady {

@@ -105,39 +105,46 @@ type benchRow struct {
 }
 
 // solveOnce lowers, builds and integrates a benchmark model and returns
-// the largest relative error against the reference.
-func solveOnce(p benchProblem, m *compile.Model, set compile.Settings, it *solvers.Integrator) (float64, error) {
+// the compared quantity at the reference times.
+func solveOnce(p benchProblem, m *compile.Model, set compile.Settings, it *solvers.Integrator) ([]float64, error) {
 	b := m.Bodies[0]
 	low, err := compile.Lower(m, b, b.Conditions, set)
 	if err != nil {
-		return 0, err
+		return nil, err
 	}
 	d, err := fv.Build(low.Spec)
 	if err != nil {
-		return 0, err
+		return nil, err
 	}
 	prob := d.Problem()
 	r, err := it.Integrate(context.Background(), prob, 0, d.Y0(), p.times, &solvers.Settings{RTol: set.RTol, ATol: set.RTol * 1e-3})
 	if err != nil {
-		return 0, err
+		return nil, err
 	}
 	ones := make([]float64, d.N())
 	for i := 0; i < d.Cells(); i++ {
 		ones[i] = 1
 	}
 	full, _ := d.Content(ones, 0)
-	worst := 0.0
+	out := make([]float64, len(p.times))
 	for i := range p.times {
-		var got float64
 		if p.absorbed {
-			got = (r.Q[i][fv.QuadOuter] + r.Q[i][fv.QuadInner]) / p.scale
+			out[i] = (r.Q[i][fv.QuadOuter] + r.Q[i][fv.QuadInner]) / p.scale
 		} else {
 			c, _ := d.Content(r.Y[i], 0)
-			got = c / full
+			out[i] = c / full
 		}
-		worst = math.Max(worst, math.Abs(got-p.ref[i])/math.Abs(p.ref[i]))
 	}
-	return worst, nil
+	return out, nil
+}
+
+// worstError is the largest relative error against the reference.
+func (p benchProblem) worstError(got []float64) float64 {
+	worst := 0.0
+	for i := range got {
+		worst = math.Max(worst, math.Abs(got[i]-p.ref[i])/math.Abs(p.ref[i]))
+	}
+	return worst
 }
 
 // timeIt returns the best wall time of repeated calls (at least reps, and
@@ -176,8 +183,8 @@ func benchMassline(p benchProblem, quick bool) ([]benchRow, error) {
 			set := compile.Settings{RTol: rtol, Cells: n}
 			var e float64
 			sec, err := timeIt(5, func() error {
-				var err error
-				e, err = solveOnce(p, m, set, it)
+				got, err := solveOnce(p, m, set, it)
+				e = p.worstError(got)
 				return err
 			})
 			if err != nil {
@@ -192,6 +199,35 @@ func benchMassline(p benchProblem, quick bool) ([]benchRow, error) {
 				method = "massline (default grid)"
 			}
 			rows = append(rows, benchRow{Problem: p.name, Method: method, Cells: label, RTol: rtol, Seconds: sec, Error: e})
+		}
+	}
+	// Richardson extrapolation in space (settings { extrapolate = on }):
+	// N/2 and N cells, combined as (4·v_N − v_N/2)/3.
+	for _, n := range []int{40, 80, 160} {
+		for _, rtol := range rtols {
+			var e float64
+			sec, err := timeIt(5, func() error {
+				fine, err := solveOnce(p, m, compile.Settings{RTol: rtol, Cells: n}, it)
+				if err != nil {
+					return err
+				}
+				coarse, err := solveOnce(p, m, compile.Settings{RTol: rtol, Cells: n / 2}, it)
+				if err != nil {
+					return err
+				}
+				for i := range fine {
+					fine[i] = (4*fine[i] - coarse[i]) / 3
+				}
+				e = p.worstError(fine)
+				return nil
+			})
+			if err != nil {
+				return nil, err
+			}
+			rows = append(rows, benchRow{Problem: p.name, Method: "massline extrapolated", Cells: n, RTol: rtol, Seconds: sec, Error: e})
+		}
+		if quick {
+			break
 		}
 	}
 	return rows, nil
