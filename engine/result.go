@@ -19,7 +19,7 @@ type Result struct {
 	Scalars  []Scalar   `json:"scalars,omitempty"`
 	// Estimates are error estimates, when asked for.
 	Estimates []Estimate `json:"error_estimates,omitempty"`
-	Caution  string     `json:"caution"`
+	Caution   string     `json:"caution"`
 
 	// Outputs are the rendered outputs in the order the model asked for
 	// them (tables, plots, printed text); not part of the JSON.
