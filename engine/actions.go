@@ -18,6 +18,9 @@ type Output struct {
 	Plot  *report.Plot
 	Map   *report.Map
 	Text  string
+	// Value and Unit hold a shown value in SI ("value" outputs).
+	Value float64
+	Unit  string
 }
 
 // runActions evaluates show, expect, print and value statements.
@@ -39,7 +42,7 @@ func runActions(ctx context.Context, m *compile.Model, sols map[string]*bodySolu
 			}
 			res.Outputs = append(res.Outputs, Output{Kind: "text", Text: b.String() + "\n"})
 		case *compile.Eval:
-			res.Outputs = append(res.Outputs, Output{Kind: "value", Text: formatQuantity(a.Value, a.Dim, a.Unit)})
+			res.Outputs = append(res.Outputs, Output{Kind: "value", Text: formatQuantity(a.Value, a.Dim, a.Unit), Value: a.Value, Unit: unitOf(a.Dim)})
 		case *compile.Show:
 			res.Outputs = append(res.Outputs, show(m, a, sols, res)...)
 		case *compile.Expect:

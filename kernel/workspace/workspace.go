@@ -108,7 +108,7 @@ func (w *Workspace) Execute(ctx context.Context, code string, sink kernel.Sink) 
 		case "text":
 			sink.Stream("stdout", o.Text)
 		case "value":
-			result = kernel.Bundle{"text/plain": o.Text}
+			result = kernel.Bundle{"text/plain": o.Text, "application/json": map[string]any{"value_si": finite([]float64{o.Value})[0], "unit_si": o.Unit}}
 		default:
 			sink.Display(Bundle(o))
 		}
