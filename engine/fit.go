@@ -438,9 +438,12 @@ func runFit(ctx context.Context, m *compile.Model, a *compile.Fit, opts *Options
 				report.FormatNumber(pu[j].show(ciLo[j]), 5), pu[j].format(ciHi[j]),
 				report.FormatNumber(100*(ciHi[j]-x[j])/math.Abs(x[j]), 3))
 		}
-		if fitRes.AtBound != nil && fitRes.AtBound[j] {
+		switch {
+		case fitRes.AtBound != nil && fitRes.AtBound[j]:
 			line += fmt.Sprintf(" — at its bound (%s to %s): the data call for a value beyond it; widen the bounds or review the model; its interval does not apply",
 				report.FormatNumber(pu[j].show(p.Low), 5), pu[j].format(p.High))
+		case !math.IsNaN(se[j]) && (ciLo[j] < p.Low || ciHi[j] > p.High):
+			line += " — the interval reaches beyond the bounds: the data determine " + p.Name + " only weakly, and the linearised interval is a rough guide"
 		}
 		pt.Notes = append(pt.Notes, line)
 	}

@@ -8,8 +8,12 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync/atomic"
 	"testing"
 	"time"
+
+	"github.com/massline/massline/compile"
+	"github.com/massline/massline/dsl"
 )
 
 // The tests of fitting synthesize their data with the engine itself: a
@@ -186,8 +190,13 @@ func TestFitNoisyCoverage(t *testing.T) {
 		if !(lo <= c.truth && c.truth <= hi) {
 			t.Errorf("%s: interval [%g, %g] misses the truth %g", c.name, lo, hi, c.truth)
 		}
-		if !(hi > lo) || (hi-lo) > v {
-			t.Errorf("%s: interval [%g, %g] implausible for σ = 0.01 noise", c.name, lo, hi)
+		if !(hi > lo) {
+			t.Errorf("%s: empty interval [%g, %g]", c.name, lo, hi)
+		}
+		// At this Biot number (kf·R/D ≈ 19) the film matters little and
+		// kf is poorly determined by 12 noisy values; D is well determined.
+		if c.name == "D" && (hi-lo)/2 > 0.3*v {
+			t.Errorf("D: interval [%g, %g] wider than ±30 %%", lo, hi)
 		}
 	}
 }
@@ -239,14 +248,31 @@ fit D from 1e-11 [m^2/s] to 1e-8 [m^2/s] against "uptake.csv" { time = "t"  upta
 	}
 }
 
-// TestFitInterrupt: a cancelled context ends the fit with "interrupted".
+// TestFitInterrupt: a context cancelled while the fit runs (here after
+// a few model runs) ends it with "interrupted".
 func TestFitInterrupt(t *testing.T) {
 	path := writeFit(t, []float64{0.1, 0.2, 0.3, 0.35, 0.45, 0.5, 0.6, 0.7, 0.75, 0.8, 0.85, 0.9}, 1e-9, 1e-4, 12)
-	ctx, cancel := context.WithTimeout(context.Background(), 50*time.Millisecond)
+	src, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, _ := dsl.Parse(path, string(src))
+	base := RecheckFunc(f, nil)
+	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
-	_, _, err := RunFile(ctx, path, nil)
+	var calls atomic.Int32
+	opts := &Options{Recheck: func(over map[string]float64) (*compile.Model, error) {
+		if calls.Add(1) == 3 {
+			cancel()
+		}
+		return base(over)
+	}}
+	_, _, err = RunFile(ctx, path, opts)
 	if err == nil || !strings.Contains(err.Error(), "interrupted") {
 		t.Errorf("err = %v, want interrupted", err)
+	}
+	if n := calls.Load(); n > 8 {
+		t.Errorf("%d model runs after the interrupt", n-3)
 	}
 }
 
@@ -269,5 +295,41 @@ func TestFitDemo(t *testing.T) {
 	}
 	if plots < 2 {
 		t.Errorf("%d plots, want one per fitted series (2) at least", plots)
+	}
+}
+
+// TestFitBeyondRun: data past the end of the run extend the runs of the
+// fit (and its plot); with stages, whose durations fix the run, they are
+// an error.
+func TestFitBeyondRun(t *testing.T) {
+	dir := t.TempDir()
+	csv := "t [min],F [%]\n5,30\n10,45\n20,62\n30,71\n"
+	if err := os.WriteFile(filepath.Join(dir, "late.csv"), []byte(csv), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	fit := `fit D from 1e-11 [m^2/s] to 1e-8 [m^2/s] against "late.csv" { time = "t"  uptake(dye) = "F" }
+`
+	plain := fitModel(3e-10, 2e-5, "run until 10 [min] every 1 [min]\nsettings { cells = 12 }\n"+fit)
+	res, diags, err := RunSource(context.Background(), filepath.Join(dir, "plain.mln"), plain, nil)
+	if err != nil {
+		t.Fatalf("%v\n%v", err, diags)
+	}
+	fitted(t, res, "D")
+	for _, o := range res.Outputs {
+		if o.Kind == "plot" && strings.HasPrefix(o.Plot.Title, "fit of") {
+			model := o.Plot.Series[1]
+			if last := model.X[len(model.X)-1]; math.Abs(last-30) > 1e-9 {
+				t.Errorf("model line ends at %g min, want 30", last)
+			}
+		}
+	}
+	staged := fitModel(3e-10, 2e-5, `stage soak for 6 [min] { }
+stage rest for 4 [min] { }
+run every 1 [min]
+settings { cells = 12 }
+`+fit)
+	_, diags, err = RunSource(context.Background(), filepath.Join(dir, "staged.mln"), staged, nil)
+	if err == nil || diags.HasErrors() || !strings.Contains(err.Error(), "stages end") {
+		t.Errorf("err = %v (diagnostics %v), want an error about the stages' end", err, diags)
 	}
 }
