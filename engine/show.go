@@ -21,6 +21,26 @@ type displayUnit struct {
 	Scale float64 // SI per unit
 }
 
+// outputTimeUnit picks the unit for a column of output times: the largest
+// of d, h, min, s in which every time is a whole number and the largest
+// stays below 10,000; otherwise the unit that suits the largest time.
+func outputTimeUnit(times []float64) displayUnit {
+	for _, u := range []displayUnit{{"d", 86400}, {"h", 3600}, {"min", 60}, {"s", 1}} {
+		whole := true
+		for _, t := range times {
+			v := t / u.Scale
+			if math.Abs(v-math.Round(v)) > 1e-9*math.Max(1, v) || v >= 10000 {
+				whole = false
+				break
+			}
+		}
+		if whole && len(times) > 1 && times[len(times)-1]/u.Scale >= 1 {
+			return u
+		}
+	}
+	return timeUnit(maxOf(times))
+}
+
 func timeUnit(maxT float64) displayUnit {
 	switch {
 	case maxT >= 3*86400:
@@ -88,7 +108,7 @@ var kindLabel = map[string]string{
 // seriesOutputs shows time series: one table with a column per item, and
 // one plot per dimension.
 func seriesOutputs(m *compile.Model, items []*compile.Result, scale string, sols map[string]*bodySolution) []Output {
-	tu := timeUnit(m.Run.Until)
+	tu := outputTimeUnit(m.Run.Times)
 	t := &report.Table{Title: "Results against time", Columns: []report.Column{{Name: "time", Unit: tu.Name}}}
 	for _, it := range items {
 		t.Columns = append(t.Columns, report.Column{Name: kindLabel[it.Kind] + " " + speciesLabel(m, it), Unit: unitOf(it.Dim)})
