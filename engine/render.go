@@ -85,7 +85,10 @@ func (r *Result) Footer() string {
 		hash = hash[:12]
 	}
 	s := fmt.Sprintf("model sha256 %s · massline %s", hash, r.Model.Version)
-	if r.Solver.Method != "" {
+	switch {
+	case r.Solver.Method != "" && r.Solver.Steps == 0:
+		s += fmt.Sprintf(" · steady state by Newton's method, %d cells", r.Solver.Cells)
+	case r.Solver.Method != "":
 		s += fmt.Sprintf(" · %s, rtol %g, %d cells, %d steps", r.Solver.Method, r.Solver.RTol, r.Solver.Cells, r.Solver.Steps)
 	}
 	if len(r.Ledger) > 0 {

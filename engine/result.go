@@ -2,10 +2,13 @@ package engine
 
 import (
 	"time"
+
+	"github.com/massline/massline/report"
 )
 
-// Caution is the sentence every report carries.
-const Caution = "Model results are estimates that depend on the inputs; validate them against measurements. Local regulations and licensed practice decide."
+// Caution is the sentence every report carries (one text, kept in
+// package report).
+var Caution = report.Caution()
 
 // Result is everything one run of a model produced. Values are in SI.
 type Result struct {

@@ -182,11 +182,7 @@ func profileOutputs(m *compile.Model, it *compile.Result, at []float64, sols map
 		r, c := s.disc.Profile(0, s.steady, it.Species)
 		p := &report.Plot{Title: "steady profile of " + name, X: report.Axis{Label: "position r", Unit: lu.Name}, Y: report.Axis{Label: "concentration", Unit: "mol/m^3"}}
 		p.Series = append(p.Series, report.Series{Name: "steady state", X: scaled(r, lu.Scale), Y: c})
-		t := &report.Table{Title: "Steady profile of " + name, Columns: []report.Column{{Name: "position r", Unit: lu.Name}, {Name: name, Unit: "mol/m^3"}}}
-		for i := range r {
-			t.Rows = append(t.Rows, []float64{r[i] / lu.Scale, c[i]})
-		}
-		return []Output{{Kind: "plot", Plot: p}, {Kind: "table", Table: t}}
+		return []Output{{Kind: "plot", Plot: p}}
 	}
 	// A transient profile is shown as a plot; its numbers travel in the
 	// JSON (and in Result.Profiles).
@@ -229,7 +225,11 @@ func scalarOutput(m *compile.Model, it *compile.Result, sols map[string]*bodySol
 	unit := unitOf(it.Dim)
 	shown := v
 	if it.Kind == "time_to" {
-		name = fmt.Sprintf("time to %s %% uptake", report.FormatNumber(it.Fraction*100, 4))
+		word := "uptake"
+		if s := sols[it.Body]; s != nil && s.final[it.Species] < s.disc.Content(s.ys[0], it.Species) {
+			word = "release"
+		}
+		name = fmt.Sprintf("time to %s %% %s", report.FormatNumber(it.Fraction*100, 4), word)
 		tu := timeUnit(v)
 		if math.IsNaN(v) {
 			tu = timeUnit(m.Run.Until)
@@ -270,8 +270,14 @@ func maxOf(v []float64) float64 {
 	return m
 }
 
-// timeLabel writes a time in the unit that reads best for it alone.
+// timeLabel writes a time in the unit that reads best for it alone: the
+// largest unit in which it is a whole number, else one that suits its size.
 func timeLabel(t float64) string {
+	for _, u := range []displayUnit{{"d", 86400}, {"h", 3600}, {"min", 60}} {
+		if v := t / u.Scale; v >= 1 && math.Abs(v-math.Round(v)) < 1e-9*v {
+			return report.FormatNumber(v, 4) + " " + u.Name
+		}
+	}
 	var u displayUnit
 	switch {
 	case t < 120:

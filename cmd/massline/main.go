@@ -22,6 +22,9 @@ const usage = `massline — diffusion of solutes in porous particles, beads, pel
 
 usage:
   massline run [--out DIR] FILE.mln     solve a model; print tables, write plots (SVG) and numbers (JSON)
+  massline run NOTEBOOK.ipynb [--out DIR] [--html] [-w] [--keep-going]
+                                        run a notebook headless: the executed copy goes to NAME.out.ipynb
+                                        (DIR/NAME.ipynb with --out, in place with -w), with --html a report
   massline check [--json] FILE...       check models: syntax, names, units, completeness
   massline fmt [-w] [-d] FILE...        print the canonical layout (-w: rewrite files, -d: show a diff)
   massline kernel install [--user | --prefix DIR | --sys-prefix] [--name NAME]
