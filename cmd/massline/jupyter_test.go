@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -12,6 +13,7 @@ import (
 	"time"
 
 	"github.com/massline/massline/kernel"
+	"github.com/massline/massline/kernel/notebook"
 )
 
 // childEnv makes the test binary act as the massline command (Jupyter
@@ -135,16 +137,19 @@ func TestJupyterKernelSuite(t *testing.T) {
 	}
 }
 
-// nbclient runs every notebook in notebooks/ through Jupyter and reports
+// nbclient runs every notebook in notebooks/ through Jupyter, validates
+// the executed notebook, writes it to the output directory and reports
 // the MIME types of the outputs.
 const nbScript = `
-import json, sys, nbformat
+import json, os, sys, nbformat
 from nbclient import NotebookClient
+outdir = sys.argv[1]
 out = {}
-for path in sys.argv[1:]:
+for path in sys.argv[2:]:
     nb = nbformat.read(path, as_version=4)
-    NotebookClient(nb, kernel_name="massline", timeout=120).execute()
+    NotebookClient(nb, kernel_name="massline", timeout=120, resources={"metadata": {"path": os.path.dirname(path)}}).execute()
     nbformat.validate(nb)
+    nbformat.write(nb, os.path.join(outdir, os.path.basename(path)))
     mimes = []
     for c in nb.cells:
         for o in c.get("outputs", []):
@@ -163,7 +168,8 @@ func TestJupyterNotebooks(t *testing.T) {
 	if len(nbs) == 0 {
 		t.Fatal("no notebooks in notebooks/")
 	}
-	out := runPython(t, nbScript, env, nbs...)
+	outdir := t.TempDir()
+	out := runPython(t, nbScript, env, append([]string{outdir}, nbs...)...)
 	var mimes map[string][]string
 	if err := json.Unmarshal(out, &mimes); err != nil {
 		t.Fatalf("%v: %s", err, out)
@@ -177,4 +183,91 @@ func TestJupyterNotebooks(t *testing.T) {
 			t.Errorf("%s: a cell failed: %v", nb, ms)
 		}
 	}
+	// The same notebooks run headless (no Jupyter) must give the same
+	// numbers in every application/json output.
+	for _, path := range nbs {
+		viaJupyter := readNotebook(t, filepath.Join(outdir, filepath.Base(path)))
+		headless := readNotebook(t, path)
+		if _, err := notebook.Execute(context.Background(), headless, &notebook.Options{Dir: filepath.Dir(path)}); err != nil {
+			t.Fatalf("%s headless: %v", path, err)
+		}
+		a, b := jsonOutputs(viaJupyter), jsonOutputs(headless)
+		if len(a) != len(b) || len(a) == 0 {
+			t.Errorf("%s: %d JSON outputs through Jupyter, %d headless", path, len(a), len(b))
+			continue
+		}
+		for i := range a {
+			if d := numericDiff(a[i], b[i]); d > 1e-9 {
+				t.Errorf("%s: output %d differs by %.2e between Jupyter and headless", path, i, d)
+			}
+		}
+	}
+}
+
+func readNotebook(t *testing.T, path string) *notebook.Notebook {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	nb, err := notebook.Read(f)
+	if err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+	return nb
+}
+
+// jsonOutputs collects the application/json data of every rich output,
+// normalised through encoding/json.
+func jsonOutputs(nb *notebook.Notebook) []any {
+	var out []any
+	for _, c := range nb.Cells {
+		for _, o := range c.Outputs {
+			if v, ok := o.Data["application/json"]; ok {
+				b, _ := json.Marshal(v)
+				var x any
+				json.Unmarshal(b, &x)
+				out = append(out, x)
+			}
+		}
+	}
+	return out
+}
+
+// numericDiff is the largest relative difference between numbers at the
+// same place in two JSON values (1 when their shapes differ).
+func numericDiff(a, b any) float64 {
+	switch x := a.(type) {
+	case float64:
+		y, ok := b.(float64)
+		if !ok {
+			return 1
+		}
+		return math.Abs(x-y) / math.Max(1e-300, math.Max(math.Abs(x), math.Abs(y)))
+	case []any:
+		y, ok := b.([]any)
+		if !ok || len(x) != len(y) {
+			return 1
+		}
+		d := 0.0
+		for i := range x {
+			d = math.Max(d, numericDiff(x[i], y[i]))
+		}
+		return d
+	case map[string]any:
+		y, ok := b.(map[string]any)
+		if !ok || len(x) != len(y) {
+			return 1
+		}
+		d := 0.0
+		for k := range x {
+			d = math.Max(d, numericDiff(x[k], y[k]))
+		}
+		return d
+	}
+	if fmt.Sprint(a) != fmt.Sprint(b) {
+		return 1
+	}
+	return 0
 }

@@ -150,3 +150,10 @@ func TestCheckJSON(t *testing.T) {
 		t.Errorf("diagnostics: %v", ds)
 	}
 }
+
+func writeFile(t *testing.T, path, text string) {
+	t.Helper()
+	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+}

@@ -11,8 +11,11 @@ import (
 	"path/filepath"
 	"strings"
 
+	"github.com/massline/massline/compile"
+	"github.com/massline/massline/dsl"
 	"github.com/massline/massline/dsl/diag"
 	"github.com/massline/massline/engine"
+	"github.com/massline/massline/kernel/notebook"
 )
 
 func versionString() string { return engine.Version }
@@ -149,6 +152,20 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 			failed = true
 			continue
 		}
+		if strings.HasSuffix(path, ".ipynb") {
+			diags, srcs, err := checkNotebook(path, src)
+			if err != nil {
+				all = append(all, &diag.Diagnostic{Severity: diag.Error, Code: "notebook", Message: err.Error(), Subject: diag.Range{File: path}})
+				failed = true
+				continue
+			}
+			for k, v := range srcs {
+				sources[k] = v
+			}
+			failed = failed || diags.HasErrors()
+			all = append(all, diags...)
+			continue
+		}
 		sources[path] = string(src)
 		_, diags := engine.CheckSource(path, string(src), nil)
 		if diags.HasErrors() {
@@ -173,4 +190,48 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	return 0
+}
+
+// checkNotebook checks a notebook's code cells in order, as the kernel
+// would run them: each cell against the declarations of the cells before
+// it (which it may redefine), completeness only where a cell asks for
+// results. Diagnostics name the cell as NOTEBOOK.ipynb[N].
+func checkNotebook(path string, data []byte) (diag.List, diag.Sources, error) {
+	nb, err := notebook.Parse(data)
+	if err != nil {
+		return nil, nil, err
+	}
+	var all diag.List
+	srcs := diag.Sources{}
+	var prev []*dsl.File
+	n := 0
+	for _, c := range nb.Cells {
+		if c.Type != notebook.Code || strings.TrimSpace(c.Source) == "" {
+			continue
+		}
+		n++
+		name := fmt.Sprintf("%s[%d]", path, n)
+		srcs[name] = c.Source
+		f, diags := dsl.Parse(name, c.Source)
+		needsRun := false
+		for _, s := range f.Stmts {
+			switch s.(type) {
+			case *dsl.Show, *dsl.Expect, *dsl.Sweep, *dsl.Fit:
+				needsRun = true
+			case *dsl.Reset:
+				prev = nil
+			}
+		}
+		_, more := compile.Check(f, &compile.Options{Previous: prev, Redefine: true, Lenient: !needsRun})
+		diags.Append(more)
+		for _, d := range diags {
+			if d.Severity != diag.Note {
+				all = append(all, d)
+			}
+		}
+		if !diags.HasErrors() {
+			prev = append(prev, f)
+		}
+	}
+	return all, srcs, nil
 }
