@@ -321,12 +321,12 @@ func hasSources(b *compile.Body) bool {
 
 // bathEquilibrium is the content of species si when the body and its bath
 // have come to equilibrium with no reaction: the total amount (body plus
-// bath) is conserved and the body holds K × the bath value everywhere
-// (one layer; linear store).
+// bath) is conserved, the outer layer holds K × the bath value and each
+// inner layer 1/K_contact of the layer outside it (linear stores).
 func (s *bodySolution) bathEquilibrium(y []float64, si int, st stagePlan) float64 {
 	d := s.disc.d
 	k := s.disc.k(si)
-	if k < 0 || len(s.body.Regions) != 1 {
+	if k < 0 {
 		return math.NaN()
 	}
 	bi := d.BathIndex(k)
@@ -334,15 +334,25 @@ func (s *bodySolution) bathEquilibrium(y []float64, si int, st stagePlan) float6
 	if bi < 0 || cond == nil {
 		return math.NaN()
 	}
-	ones := make([]float64, len(y))
+	layers := s.disc.low.Spec.Layers
+	mult := make([]float64, len(layers))
+	mult[len(layers)-1] = cond.Partition
+	for l := len(layers) - 1; l > 0; l-- {
+		kc := 1.0
+		if p := layers[l].Partition; p != nil && p[k] != 0 {
+			kc = p[k]
+		}
+		mult[l-1] = mult[l] / kc
+	}
+	unitState := make([]float64, len(y))
 	ns := d.NSpecies()
 	for i := 0; i < d.Cells(); i++ {
-		ones[i*ns+k] = 1
+		unitState[i*ns+k] = mult[d.Grid.Layer[i]]
 	}
-	unit := nan(d.Content(ones, k)) // content per unit concentration
+	unit := nan(d.Content(unitState, k)) // content per unit bath value
 	total := nan(d.Content(y, k)) + cond.BathVolume*y[bi]
-	cb := total / (cond.Partition*unit + cond.BathVolume)
-	return cond.Partition * cb * unit
+	cb := total / (unit + cond.BathVolume)
+	return cb * unit
 }
 
 func outerSide(b *compile.Body) string {

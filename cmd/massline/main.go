@@ -21,7 +21,8 @@ func main() {
 const usage = `massline — diffusion of solutes in porous particles, beads, pellets and slabs
 
 usage:
-  massline run [--out DIR] FILE.mln     solve a model; print tables, write plots (SVG) and numbers (JSON)
+  massline run [--out DIR] [--csv] FILE.mln
+                                        solve a model; print tables, write plots (SVG), numbers (JSON), tables (CSV)
   massline run NOTEBOOK.ipynb [--out DIR] [--html] [-w] [--keep-going]
                                         run a notebook headless: the executed copy goes to NAME.out.ipynb
                                         (DIR/NAME.ipynb with --out, in place with -w), with --html a report

@@ -27,6 +27,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	out := fs.String("out", "", "directory for the plots (SVG) and numbers (JSON); default: next to the model")
+	csv := fs.Bool("csv", false, "also write every table as CSV (BASE-table-N.csv)")
 	if err := fs.Parse(args); err != nil {
 		return 2
 	}
@@ -63,7 +64,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	base := strings.TrimSuffix(filepath.Base(path), filepath.Ext(path))
-	written, err := writeOutputs(dir, base, res)
+	written, err := writeOutputs(dir, base, res, *csv)
 	if err != nil {
 		fmt.Fprintf(stderr, "massline: %v\n", err)
 		return 1
@@ -78,8 +79,9 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	return 0
 }
 
-// writeOutputs writes BASE.json and one BASE-N.svg per plot.
-func writeOutputs(dir, base string, res *engine.Result) ([]string, error) {
+// writeOutputs writes BASE.json, one BASE-N.svg per plot and, when asked,
+// one BASE-table-N.csv per table.
+func writeOutputs(dir, base string, res *engine.Result, csv bool) ([]string, error) {
 	var written []string
 	js, err := res.JSON()
 	if err != nil {
@@ -96,6 +98,20 @@ func writeOutputs(dir, base string, res *engine.Result) ([]string, error) {
 			return nil, err
 		}
 		written = append(written, p)
+	}
+	if csv {
+		n := 0
+		for _, o := range res.Outputs {
+			if o.Kind != "table" {
+				continue
+			}
+			n++
+			p := filepath.Join(dir, fmt.Sprintf("%s-table-%d.csv", base, n))
+			if err := writeAtomic(p, []byte(o.Table.CSV())); err != nil {
+				return nil, err
+			}
+			written = append(written, p)
+		}
 	}
 	return written, nil
 }

@@ -134,8 +134,8 @@ func withoutRun(m *compile.Model) *compile.Model {
 }
 
 // Bundle turns one output into a MIME bundle: a plot as image/svg+xml, a
-// table as text/html, each with a text/plain alternative and the numbers
-// as application/json.
+// table as text/html (and text/csv), each with a text/plain alternative
+// and the numbers as application/json.
 func Bundle(o engine.Output) kernel.Bundle {
 	switch o.Kind {
 	case "plot", "map":
@@ -145,7 +145,7 @@ func Bundle(o engine.Output) kernel.Bundle {
 		}
 		return b
 	case "table":
-		return kernel.Bundle{"text/html": o.HTML(), "text/plain": o.String(), "application/json": tableJSON(o)}
+		return kernel.Bundle{"text/html": o.HTML(), "text/plain": o.String(), "text/csv": o.Table.CSV(), "application/json": tableJSON(o)}
 	}
 	return kernel.Bundle{"text/plain": o.String()}
 }
