@@ -2,6 +2,7 @@ package compile
 
 import (
 	"encoding/csv"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -63,7 +64,7 @@ func (c *checker) action(d *decl, inSweep bool) Action {
 			return nil
 		}
 		return c.fit(s, d.file)
-	case *dsl.Stage, *dsl.Let, *dsl.Species, *dsl.Body, *dsl.Balance, *dsl.Boundary, *dsl.Initially, *dsl.Run, *dsl.Settings:
+	case *dsl.Stage, *dsl.Let, *dsl.Species, *dsl.Body, *dsl.Balance, *dsl.Boundary, *dsl.Initially, *dsl.Run, *dsl.Settings, *dsl.Use, *dsl.Version:
 		c.diags.Add("sweep", s.Span(), "a sweep may hold only show, expect, print and sweep statements")
 		return nil
 	}
@@ -98,7 +99,7 @@ func (c *checker) result(e dsl.Expr) (*Result, bool) {
 	}
 	r := &Result{Def: call.Range, Kind: kind, Species: -1}
 	if c.m.Run == nil {
-		if c.runFailed {
+		if c.runFailed || c.hasBad {
 			return nil, false
 		}
 		c.diags.Add("result", call.Range, "%s(...) needs a run statement (run until ... or run steady)", kind)
@@ -112,7 +113,7 @@ func (c *checker) result(e dsl.Expr) (*Result, bool) {
 		want = 2
 	}
 	if len(call.Args) != want {
-		c.diags.Add("argument", call.Range, "%s takes %d argument(s), e.g. %s", kind, want, resultExample(kind))
+		c.diags.Add("argument", call.Range, "%s takes %s, e.g. %s", kind, map[int]string{1: "one argument", 2: "two arguments"}[want], resultExample(kind))
 		return nil, false
 	}
 	// The species, optionally with its body: dye or bead.dye.
@@ -128,7 +129,15 @@ func (c *checker) result(e dsl.Expr) (*Result, bool) {
 		}
 		b, ok := c.bodies[a.Parts[0].Name]
 		if !ok {
-			c.diags.Add("unknown-name", a.Parts[0].Range, "%q is not a body", a.Parts[0].Name)
+			name := a.Parts[0].Name
+			if _, declared := c.bodyDecl[name]; declared || c.broken[name] {
+				return nil, false
+			}
+			var cands []string
+			for n := range c.bodyDecl {
+				cands = append(cands, n)
+			}
+			c.diags.Add("unknown-name", a.Parts[0].Range, "%q is not a body", name).Suggestion = Closest(name, cands)
 			return nil, false
 		}
 		body, spID = b, a.Parts[1]
@@ -162,7 +171,22 @@ func (c *checker) result(e dsl.Expr) (*Result, bool) {
 	}
 	r.Body = body.Name
 	switch kind {
-	case "uptake", "release", "effectiveness":
+	case "effectiveness":
+		hasSource := false
+		for _, reg := range body.Regions {
+			if bal := reg.Balances[sp.Index]; bal != nil && bal.Source != nil {
+				hasSource = true
+			}
+		}
+		if !hasSource {
+			if c.failed["source:"+body.Name+":"+sp.Name] {
+				return nil, false
+			}
+			c.diags.Add("result", call.Range, "effectiveness(...) compares reaction rates, but %s has no source in %s", sp.Name, body.Name)
+			return nil, false
+		}
+		r.Dim = units.Dimensionless
+	case "uptake", "release":
 		r.Dim = units.Dimensionless
 	case "time_to":
 		v, ok := c.constant(call.Args[1].Value, units.Dimensionless, "a fraction")
@@ -191,6 +215,9 @@ func (c *checker) result(e dsl.Expr) (*Result, bool) {
 			hasBath = hasBath || cond.Kind == Bath
 		}
 		if !hasBath {
+			if c.failed[body.Name+"."+outerName(body)] || c.failed[body.Name+".*"] {
+				return nil, false
+			}
 			c.diags.Add("result", call.Range, "%s has no bath around it", body.Name)
 			return nil, false
 		}
@@ -233,6 +260,20 @@ func (c *checker) show(s *dsl.Show) Action {
 		}
 		ok = ok && good
 	}
+	if len(s.At) > 0 {
+		profiles := false
+		for _, it := range sh.Items {
+			profiles = profiles || it.Kind == "profile" || it.Kind == "map"
+		}
+		switch {
+		case c.m.Run != nil && c.m.Run.Steady:
+			c.diags.Add("result", s.At[0].Span().Join(s.At[len(s.At)-1].Span()), "a steady state has no times; leave out `at`")
+			return nil
+		case !profiles && ok:
+			c.diags.Add("result", s.At[0].Span().Join(s.At[len(s.At)-1].Span()), "`at` gives the times of profiles, but this show has no profile(...)")
+			return nil
+		}
+	}
 	for _, a := range s.At {
 		v, good := c.constant(a, units.Time, "a profile time")
 		if good && c.m.Run != nil && !c.m.Run.Steady && (v < 0 || v > c.m.Run.Until*(1+1e-12)) {
@@ -273,6 +314,10 @@ func (c *checker) expect(s *dsl.Expect) Action {
 			return nil
 		}
 	default:
+		if c.m.Run != nil && c.m.Run.Steady && s.At != nil {
+			c.diags.Add("result", s.At.Span(), "a steady state has no times; leave out `at`")
+			return nil
+		}
 		if c.m.Run != nil && !c.m.Run.Steady {
 			if s.At == nil {
 				ex.At = c.m.Run.Until
@@ -355,9 +400,15 @@ func (c *checker) sweep(s *dsl.Sweep) Action {
 		}
 		return nil
 	}
-	if !q.Const {
-		c.diags.Add("sweep", v.Name.Range, "%s is computed from other values; sweep one of its inputs instead", q.Name)
+	if in := c.inputs(q.Name); !q.Const || len(in) > 0 {
+		c.diags.Add("sweep", v.Name.Range, "%s is computed from other values; sweep %s instead", q.Name, inputsText(in))
 		return nil
+	}
+	for _, outer := range c.sweeping {
+		if outer == q.Name {
+			c.diags.Add("sweep", v.Name.Range, "%s is already swept by an enclosing sweep", q.Name)
+			return nil
+		}
 	}
 	sw := &Sweep{Def: s.Range, Param: q.Name, Unit: q.Unit}
 	role := "a value of " + q.Name
@@ -398,22 +449,39 @@ func (c *checker) sweep(s *dsl.Sweep) Action {
 	for _, st := range s.Stmts {
 		inner = append(inner, &decl{stmt: st})
 	}
+	c.sweeping = append(c.sweeping, q.Name)
 	sw.Actions = c.actionList(inner, true)
+	c.sweeping = c.sweeping[:len(c.sweeping)-1]
 	return sw
 }
 
 func (c *checker) fit(s *dsl.Fit, f *dsl.File) Action {
 	ft := &Fit{Def: s.Range}
+	if c.m.Run != nil && c.m.Run.Steady {
+		c.diags.Add("fit", s.Range, "a fit compares the model with measurements over time; this model asks for a steady state")
+		return nil
+	}
+	seen := map[string]*dsl.FitParam{}
 	for _, p := range s.Params {
+		if prev, dup := seen[p.Name.Name]; dup {
+			c.diags.Add("duplicate", p.Name.Range, "%s is fitted twice", p.Name.Name).Notes = []string{"first at " + prev.Range.String()}
+			return nil
+		}
+		seen[p.Name.Name] = p
 		q := c.quantityOf(p.Name.Name)
 		if q == nil {
-			if _, isLet := c.lets[p.Name.Name]; !isLet {
-				c.diags.Add("unknown-name", p.Name.Range, "%q is not a quantity defined with let; only those can be fitted", p.Name.Name)
+			if _, isLet := c.lets[p.Name.Name]; !isLet && !c.broken[p.Name.Name] {
+				var cands []string
+				for n := range c.lets {
+					cands = append(cands, n)
+				}
+				c.diags.Add("unknown-name", p.Name.Range, "%q is not a quantity defined with let; only those can be fitted", p.Name.Name).
+					Suggestion = Closest(p.Name.Name, cands)
 			}
 			return nil
 		}
-		if !q.Const {
-			c.diags.Add("fit", p.Name.Range, "%s is computed from other values; fit one of its inputs instead", q.Name)
+		if in := c.inputs(q.Name); !q.Const || len(in) > 0 {
+			c.diags.Add("fit", p.Name.Range, "%s is computed from other values; fit %s instead", q.Name, inputsText(in))
 			return nil
 		}
 		lo, ok1 := c.constant(p.Low, q.Dim, "a lower bound of "+q.Name)
@@ -438,7 +506,11 @@ func (c *checker) fit(s *dsl.Fit, f *dsl.File) Action {
 	ft.Data = path
 	header, err := readCSVHeader(path, c.opts.ReadFile)
 	if err != nil {
-		c.diags.Add("data", s.Data.Range, "cannot read the data file: %v", err)
+		var pe *os.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		c.diags.Add("data", s.Data.Range, "cannot read the data file %q: %v", s.Data.Value, err)
 		return nil
 	}
 	cols := map[string]units.Unit{}
@@ -452,7 +524,15 @@ func (c *checker) fit(s *dsl.Fit, f *dsl.File) Action {
 			var err error
 			u, err = units.Parse(unitText)
 			if err != nil {
-				c.diags.Add("data", s.Data.Range, "column %d of %s: the unit %q: %v", i+1, s.Data.Value, unitText, err)
+				msg := err.Error()
+				var ue *units.Error
+				if errors.As(err, &ue) {
+					msg = ue.Msg
+					if ue.Suggestion != "" && ue.Offset != ue.End {
+						msg += fmt.Sprintf(" (did you mean %q?)", ue.Suggestion)
+					}
+				}
+				c.diags.Add("data", s.Data.Range, "column %d (%s) of %s has a unit that cannot be read: %s", i+1, name, s.Data.Value, msg)
 				return nil
 			}
 		}
@@ -468,7 +548,7 @@ func (c *checker) fit(s *dsl.Fit, f *dsl.File) Action {
 		}
 		if id, isIdent := col.Target.(*dsl.Ident); isIdent && id.Name == "time" {
 			if u.Dim != units.Time {
-				c.diags.Add("dimension", col.Column.Range, "the time column must hold a time, but its unit is %s (%s)", u.Text, u.Dim.Describe())
+				c.diags.Add("dimension", col.Column.Range, "the time column must hold a time, but its unit %s is %s", u.Text, u.Dim.Describe())
 				return nil
 			}
 			ft.Time = Column{Name: col.Column.Value, Scale: u.Scale}
@@ -478,13 +558,13 @@ func (c *checker) fit(s *dsl.Fit, f *dsl.File) Action {
 		if !ok {
 			return nil
 		}
-		if r.Dim != u.Dim {
-			c.diags.Add("dimension", col.Column.Range, "column %q holds %s, but %s(...) is %s", col.Column.Value, u.Dim.Describe(), r.Kind, r.Dim.Describe())
-			return nil
-		}
 		switch r.Kind {
 		case "profile", "map", "ledger", "time_to", "effectiveness":
 			c.diags.Add("fit", col.Target.Span(), "a fit compares time series; %s(...) is not one", r.Kind)
+			return nil
+		}
+		if r.Dim != u.Dim {
+			c.diags.Add("dimension", col.Column.Range, "column %q holds %s, but %s(...) is %s", col.Column.Value, u.Dim.Describe(), r.Kind, r.Dim.Describe())
 			return nil
 		}
 		ft.Series = append(ft.Series, FitSeries{Result: r, Column: Column{Name: col.Column.Value, Scale: u.Scale}})
@@ -500,6 +580,9 @@ func (c *checker) fit(s *dsl.Fit, f *dsl.File) Action {
 	return ft
 }
 
+// readCSVHeader reads the first record of a CSV file: from the file
+// itself (a regular file; the header must lie in its first MiB) or
+// through read when the options give one.
 func readCSVHeader(path string, read func(string) ([]byte, error)) ([]string, error) {
 	if read == nil {
 		fh, err := os.Open(path)
@@ -507,7 +590,10 @@ func readCSVHeader(path string, read func(string) ([]byte, error)) ([]string, er
 			return nil, err
 		}
 		defer fh.Close()
-		return firstRecord(fh)
+		if st, err := fh.Stat(); err != nil || !st.Mode().IsRegular() {
+			return nil, errors.New("not a regular file")
+		}
+		return firstRecord(io.LimitReader(fh, 1<<20))
 	}
 	b, err := read(path)
 	if err != nil {
@@ -524,4 +610,60 @@ func firstRecord(r io.Reader) ([]string, error) {
 		return nil, fmt.Errorf("no header line: %v", err)
 	}
 	return rec, nil
+}
+
+// inputs returns the quantities the let called name refers to directly,
+// in the order they are written.
+func (c *checker) inputs(name string) []string {
+	d, ok := c.lets[name]
+	if !ok {
+		return nil
+	}
+	var out []string
+	seen := map[string]bool{}
+	walkExpr(d.stmt.(*dsl.Let).Value, func(e dsl.Expr) {
+		if id, ok := e.(*dsl.Ident); ok && !seen[id.Name] {
+			if sym := c.symbols[id.Name]; sym != nil && sym.Kind == QuantitySym {
+				seen[id.Name] = true
+				out = append(out, id.Name)
+			}
+		}
+	})
+	return out
+}
+
+// inputsText names the inputs of a computed quantity for a message.
+func inputsText(in []string) string {
+	switch len(in) {
+	case 0:
+		return "one of its inputs"
+	case 1:
+		return in[0]
+	}
+	return "one of its inputs (" + strings.Join(in, ", ") + ")"
+}
+
+// walkExpr calls f for e and every expression inside it.
+func walkExpr(e dsl.Expr, f func(dsl.Expr)) {
+	if e == nil {
+		return
+	}
+	f(e)
+	switch e := e.(type) {
+	case *dsl.Unary:
+		walkExpr(e.X, f)
+	case *dsl.Binary:
+		walkExpr(e.X, f)
+		walkExpr(e.Y, f)
+	case *dsl.Paren:
+		walkExpr(e.X, f)
+	case *dsl.Cond:
+		walkExpr(e.If, f)
+		walkExpr(e.Then, f)
+		walkExpr(e.Else, f)
+	case *dsl.Call:
+		for _, a := range e.Args {
+			walkExpr(a.Value, f)
+		}
+	}
 }

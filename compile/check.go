@@ -5,6 +5,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -43,6 +44,10 @@ type Options struct {
 	// conditions and starting values), for a notebook cell that only
 	// declares things while the model is being built.
 	Lenient bool
+	// Sources, when not nil, receives the text of every file the checker
+	// read (the model and its includes), so that diagnostics in included
+	// files can be rendered with their source lines.
+	Sources diag.Sources
 }
 
 // decl is one declaration with the chunk it came from.
@@ -81,13 +86,45 @@ type checker struct {
 	versionAt *decl
 	failed    map[string]bool // boundaries whose condition had an error
 	runFailed bool
+	// broken holds the names declared by statements that could not be
+	// parsed; uses of them are not reported again.
+	broken map[string]bool
+	// hasBad is set when some statement could not be parsed: the
+	// completeness checks are then skipped, since the missing piece may
+	// be in the broken statement.
+	hasBad bool
+	// balFailed holds the bodies some balance statement of which had an
+	// error; their completeness is not checked.
+	balFailed map[string]bool
+	// bodyFailed is set when a body had an error.
+	bodyFailed bool
+	// including is the chain of files being included, for cycles.
+	including []string
+	// sweeping holds the quantities of the enclosing sweeps.
+	sweeping []string
 }
 
 // Check resolves names, checks dimensions and completeness of a parsed
 // model file (or notebook cell), and returns the checked Model together
 // with every diagnostic, sorted by position. The Model is nil when there
-// are errors.
-func Check(f *dsl.File, opts *Options) (*Model, diag.List) {
+// are errors, and when f holds statements that could not be parsed (whose
+// errors the parser reported).
+func Check(f *dsl.File, opts *Options) (m *Model, diags diag.List) {
+	name := ""
+	if f != nil {
+		name = f.Name
+	}
+	defer func() {
+		if r := recover(); r != nil {
+			diags = append(diags, &diag.Diagnostic{Severity: diag.Error, Code: "internal",
+				Subject: diag.Range{File: name, Start: diag.Pos{Line: 1, Column: 1}, End: diag.Pos{Line: 1, Column: 1}},
+				Message: fmt.Sprintf("the checker failed unexpectedly (%v); please report this model", r)})
+			m = nil
+		}
+	}()
+	if f == nil {
+		f = &dsl.File{}
+	}
 	if opts == nil {
 		opts = &Options{}
 	}
@@ -97,6 +134,7 @@ func Check(f *dsl.File, opts *Options) (*Model, diag.List) {
 		species: map[string]*Species{}, specDecl: map[string]*decl{},
 		bodies: map[string]*Body{}, bodyDecl: map[string]*decl{},
 		seen: map[string]*decl{}, symbols: map[string]*Symbol{}, included: map[string]bool{}, failed: map[string]bool{},
+		broken: map[string]bool{}, balFailed: map[string]bool{},
 	}
 	sum := sha256.Sum256([]byte(f.Source))
 	c.m = &Model{Name: f.Name, Source: f.Source, Hash: hex.EncodeToString(sum[:]), Version: LanguageVersion,
@@ -105,6 +143,7 @@ func Check(f *dsl.File, opts *Options) (*Model, diag.List) {
 		c.collect(p, i, p.Stmts)
 	}
 	c.current = len(opts.Previous)
+	c.including = []string{filepath.Clean(f.Name)}
 	c.collect(f, c.current, f.Stmts)
 	c.defineBuiltins()
 	c.checkLets()
@@ -114,21 +153,28 @@ func Check(f *dsl.File, opts *Options) (*Model, diag.List) {
 	c.checkBoundaries()
 	c.checkInitials()
 	c.checkStages()
-	if !opts.Lenient {
+	if !opts.Lenient && !c.hasBad {
 		c.checkCompleteness()
 	}
 	c.checkRun()
 	c.checkSettings()
 	c.checkActions()
 	c.diags.Sort()
-	if c.diags.HasErrors() {
+	if opts.Sources != nil {
+		for name, text := range c.sources {
+			opts.Sources[name] = text
+		}
+	}
+	if c.diags.HasErrors() || c.hasBad {
+		// A statement that could not be parsed (reported by the parser)
+		// leaves the model incomplete: no model is returned.
 		return nil, c.diags
 	}
 	return c.m, c.diags
 }
 
-// Sources returns the texts of every file the checker read (the model
-// and its includes) for rendering diagnostics.
+// Sources returns the text of f for rendering its diagnostics; the texts
+// of included files are collected through Options.Sources.
 func Sources(f *dsl.File) diag.Sources {
 	return diag.Sources{f.Name: f.Source}
 }
@@ -141,8 +187,16 @@ func (c *checker) collect(f *dsl.File, chunk int, stmts []dsl.Stmt) {
 		d := &decl{stmt: s, chunk: chunk, file: f}
 		switch s := s.(type) {
 		case *dsl.Version:
+			if c.versionAt != nil && c.versionAt.file == f {
+				c.diags.Add("duplicate", s.Range, "the language version is already given").
+					Notes = []string{"first given at " + c.versionAt.stmt.Span().String()}
+				continue
+			}
+			c.versionAt = d
 			if s.Number < 1 || s.Number > LanguageVersion {
 				c.diags.Add("version", s.Range, "this file is written for language version %d; this massline reads version %d", s.Number, LanguageVersion)
+			} else if first := firstStmt(stmts); first != dsl.Stmt(s) {
+				c.diags.Add("version", s.Range, "the language version line must come first in the file")
 			}
 			c.m.Version = s.Number
 		case *dsl.Use:
@@ -198,13 +252,33 @@ func (c *checker) collect(f *dsl.File, chunk int, stmts []dsl.Stmt) {
 		case *dsl.Settings:
 			c.settings = append(c.settings, d)
 		case *dsl.BadStmt:
-			// already reported by the parser
+			// Already reported by the parser: remember what it declared.
+			if chunk == c.currentChunkIndex() || !c.opts.Redefine {
+				c.hasBad = true
+			}
+			if s.Name != nil {
+				c.broken[s.Name.Name] = true
+			}
+			if s.Keyword == "run" {
+				c.runFailed = true
+			}
 		default:
 			if chunk == c.currentChunkIndex() {
 				c.actions = append(c.actions, d)
 			}
 		}
 	}
+}
+
+// firstStmt returns the first statement of a file that is not a
+// statement that failed to parse.
+func firstStmt(stmts []dsl.Stmt) dsl.Stmt {
+	for _, s := range stmts {
+		if _, bad := s.(*dsl.BadStmt); !bad {
+			return s
+		}
+	}
+	return nil
 }
 
 // currentChunkIndex is the chunk whose actions run; during collection of
@@ -275,13 +349,24 @@ func (c *checker) include(f *dsl.File, chunk int, u *dsl.Use) {
 	if !filepath.IsAbs(path) {
 		path = filepath.Join(filepath.Dir(f.Name), path)
 	}
+	path = filepath.Clean(path)
+	for i, p := range c.including {
+		if p == path {
+			chain := append(append([]string(nil), c.including[i:]...), path)
+			for j := range chain {
+				chain[j] = filepath.Base(chain[j])
+			}
+			c.diags.Add("include", u.Path.Range, "%q includes itself (%s)", u.Path.Value, strings.Join(chain, " → "))
+			return
+		}
+	}
 	if c.included[path] {
 		return
 	}
 	c.included[path] = true
 	read := c.opts.ReadFile
 	if read == nil {
-		read = os.ReadFile
+		read = readRegularFile
 	}
 	b, err := read(path)
 	if err != nil {
@@ -296,15 +381,44 @@ func (c *checker) include(f *dsl.File, chunk int, u *dsl.Use) {
 	inc, ds := dsl.Parse(path, string(b))
 	c.diags.Append(ds)
 	c.sources[path] = inc.Source
+	bad := false
 	for _, s := range inc.Stmts {
 		switch s.(type) {
 		case *dsl.Let, *dsl.Species, *dsl.Use, *dsl.Version, *dsl.BadStmt:
 		default:
 			c.diags.Add("include", s.Span(), "an included file may hold only let, species and use statements (shared property sets)")
-			return
+			bad = true
 		}
 	}
+	if bad {
+		c.hasBad = true
+		return
+	}
+	c.including = append(c.including, path)
 	c.collect(inc, chunk, inc.Stmts)
+	c.including = c.including[:len(c.including)-1]
+}
+
+// readRegularFile reads a file for an include or a data file. It refuses
+// what is not a regular file (a device, a pipe, a directory) and files
+// larger than dsl.MaxSourceBytes, which no model or data file needs.
+func readRegularFile(path string) ([]byte, error) {
+	fh, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer fh.Close()
+	st, err := fh.Stat()
+	if err != nil {
+		return nil, err
+	}
+	if !st.Mode().IsRegular() {
+		return nil, errors.New("not a regular file")
+	}
+	if st.Size() > dsl.MaxSourceBytes {
+		return nil, fmt.Errorf("the file is %d bytes; the limit is %d", st.Size(), dsl.MaxSourceBytes)
+	}
+	return io.ReadAll(io.LimitReader(fh, dsl.MaxSourceBytes+1))
 }
 
 // ---- symbols ----
@@ -523,6 +637,9 @@ func (c *checker) unit(u *dsl.Unit) (units.Unit, bool) {
 func (c *checker) name(id *dsl.Ident, ctx *context) (*Expr, units.Dim, bool) {
 	sym, ok := c.symbols[id.Name]
 	if !ok {
+		if c.broken[id.Name] {
+			return nil, units.Dim{}, false
+		}
 		d := c.diags.Add("unknown-name", id.Range, "%q is not defined", id.Name)
 		d.Suggestion = c.suggestName(id.Name)
 		return nil, units.Dim{}, false
@@ -573,6 +690,9 @@ func (c *checker) name(id *dsl.Ident, ctx *context) (*Expr, units.Dim, bool) {
 		return nil, q.Dim, false
 	case deps.Pos && !ctx.pos:
 		c.diags.Add("context", id.Range, "%s depends on position r, which is not allowed in %s", id.Name, ctx.what)
+		return nil, q.Dim, false
+	case deps.Axial && !ctx.axial:
+		c.diags.Add("context", id.Range, "%s depends on the axial position z, which is not allowed in %s", id.Name, ctx.what)
 		return nil, q.Dim, false
 	case deps.Reads() && !ctx.conc:
 		c.diags.Add("context", id.Range, "%s depends on a concentration, which is not allowed in %s", id.Name, ctx.what)
@@ -717,11 +837,8 @@ func (c *checker) call(e *dsl.Call, ctx *context) (*Expr, units.Dim, bool) {
 		}
 	}
 	if n > 0 && len(e.Args) != n || n < 0 && len(e.Args) < 2 {
-		want := fmt.Sprint(n)
-		if n < 0 {
-			want = "two or more"
-		}
-		c.diags.Add("argument", e.Range, "%s takes %s argument(s), not %d", name, want, len(e.Args))
+		want := map[int]string{1: "one argument", 2: "two arguments", -1: "two or more arguments"}[n]
+		c.diags.Add("argument", e.Range, "%s takes %s, not %d", name, want, len(e.Args))
 		return nil, units.Dim{}, false
 	}
 	args := make([]*Expr, len(e.Args))
@@ -819,10 +936,29 @@ func (c *checker) constant(e dsl.Expr, dim units.Dim, role string) (float64, boo
 func (c *checker) positive(e dsl.Expr, dim units.Dim, role string) (float64, bool) {
 	v, ok := c.constant(e, dim, role)
 	if ok && v <= 0 {
-		c.diags.Add("range", e.Span(), "%s must be positive, not %s", role, formatSI(v, dim))
+		c.diags.Add("range", e.Span(), "%s must be positive, not %s", role, c.shown(e, v, dim))
 		return v, false
 	}
 	return v, ok
+}
+
+// shown writes the value of e for a message: as the user wrote it when e
+// is a literal number (possibly negated), else in SI units.
+func (c *checker) shown(e dsl.Expr, v float64, d units.Dim) string {
+	if e == nil {
+		return formatSI(v, d)
+	}
+	x := e
+	if u, ok := x.(*dsl.Unary); ok && (u.Op == "-" || u.Op == "+") {
+		x = u.X
+	}
+	if _, ok := x.(*dsl.Number); ok {
+		r := e.Span()
+		if t := c.text(r.Start.Offset, r.End.Offset, r.File); t != "" {
+			return strings.Join(strings.Fields(t), " ")
+		}
+	}
+	return formatSI(v, d)
 }
 
 func formatSI(v float64, d units.Dim) string {
@@ -851,23 +987,30 @@ func Closest(name string, cands []string) string {
 	return ""
 }
 
+// editDistance is the optimal-string-alignment distance between a and b,
+// counted in characters: insertions, deletions, substitutions and
+// transpositions of two adjacent characters each cost one.
 func editDistance(a, b string) int {
 	ra, rb := []rune(a), []rune(b)
-	prev := make([]int, len(rb)+1)
-	cur := make([]int, len(rb)+1)
-	for j := range prev {
-		prev[j] = j
+	d := make([][]int, len(ra)+1)
+	for i := range d {
+		d[i] = make([]int, len(rb)+1)
+		d[i][0] = i
+	}
+	for j := range d[0] {
+		d[0][j] = j
 	}
 	for i := 1; i <= len(ra); i++ {
-		cur[0] = i
 		for j := 1; j <= len(rb); j++ {
 			cost := 1
 			if ra[i-1] == rb[j-1] {
 				cost = 0
 			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+			d[i][j] = min(d[i-1][j]+1, d[i][j-1]+1, d[i-1][j-1]+cost)
+			if i > 1 && j > 1 && ra[i-1] == rb[j-2] && ra[i-2] == rb[j-1] {
+				d[i][j] = min(d[i][j], d[i-2][j-2]+1)
+			}
 		}
-		prev, cur = cur, prev
 	}
-	return prev[len(rb)]
+	return d[len(ra)][len(rb)]
 }

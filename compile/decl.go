@@ -18,14 +18,14 @@ var speciesProps = []string{"diffusivity", "molar_mass", "porosity", "tortuosity
 func (c *checker) checkSpecies() {
 	for _, sp := range c.m.Species {
 		s := c.specDecl[sp.Name].stmt.(*dsl.Species)
-		props := c.propMap(s.Props, speciesProps, "species")
+		props, unknown := c.propMap(s.Props, speciesProps, "species")
 		var dExpr *Expr
 		if p, ok := props["diffusivity"]; ok {
 			dExpr, _ = c.want(p.Value, &context{what: "a diffusivity", pos: true, conc: true}, units.Diffusivity, "a diffusivity")
 			if v, isConst := dExpr.IsConst(); isConst && dExpr != nil && v <= 0 {
-				c.diags.Add("range", p.Value.Span(), "a diffusivity must be positive, not %g m^2/s", v)
+				c.diags.Add("range", p.Value.Span(), "a diffusivity must be positive, not %s", c.shown(p.Value, v, units.Diffusivity))
 			}
-		} else {
+		} else if !unknown {
 			c.diags.Add("missing", s.Name.Range, "species %s has no diffusivity; add `diffusivity = ...` to its block", sp.Name)
 		}
 		if p, ok := props["molar_mass"]; ok {
@@ -64,9 +64,10 @@ func (c *checker) checkSpecies() {
 }
 
 // propMap checks the keys of a property block: unknown and repeated keys
-// are reported.
-func (c *checker) propMap(props []*dsl.Property, allowed []string, what string) map[string]*dsl.Property {
-	out := map[string]*dsl.Property{}
+// are reported. unknown is true when some key was not recognised (the
+// caller then does not report missing keys: the misspelt one may be it).
+func (c *checker) propMap(props []*dsl.Property, allowed []string, what string) (out map[string]*dsl.Property, unknown bool) {
+	out = map[string]*dsl.Property{}
 	for _, p := range props {
 		k := p.Key.Name
 		known := false
@@ -78,6 +79,7 @@ func (c *checker) propMap(props []*dsl.Property, allowed []string, what string) 
 		if !known {
 			d := c.diags.Add("unknown-property", p.Key.Range, "%s has no property %q; it takes %s", what, k, strings.Join(allowed, ", "))
 			d.Suggestion = Closest(k, allowed)
+			unknown = true
 			continue
 		}
 		if prev, dup := out[k]; dup {
@@ -86,7 +88,7 @@ func (c *checker) propMap(props []*dsl.Property, allowed []string, what string) 
 		}
 		out[k] = p
 	}
-	return out
+	return out, unknown
 }
 
 // ---- bodies ----
@@ -125,6 +127,7 @@ func (c *checker) checkBodies() {
 		s := c.bodyDecl[n].stmt.(*dsl.Body)
 		b := c.body(s)
 		if b == nil {
+			c.bodyFailed = true
 			continue
 		}
 		c.bodies[n] = b
@@ -165,7 +168,8 @@ func (c *checker) body(s *dsl.Body) *Body {
 		b.Inner = get("inner", "an inner radius")
 		b.Outer = get("outer", "an outer radius")
 		if okAll && b.Inner >= b.Outer {
-			c.diags.Add("range", args["inner"].Value.Span(), "the inner radius (%g m) must be smaller than the outer radius (%g m)", b.Inner, b.Outer)
+			c.diags.Add("range", args["inner"].Value.Span(), "the inner radius (%s) must be smaller than the outer radius (%s)",
+				c.shown(args["inner"].Value, b.Inner, units.Length), c.shown(args["outer"].Value, b.Outer, units.Length))
 			okAll = false
 		}
 	case ShortCylinder:
@@ -184,6 +188,10 @@ func (c *checker) body(s *dsl.Body) *Body {
 		return nil
 	}
 	inner := b.Inner
+	innerText := "the centre"
+	if kind == HollowCylinder || kind == HollowSphere {
+		innerText = c.shown(args["inner"].Value, b.Inner, units.Length) + ", the inner radius"
+	}
 	seen := map[string]bool{}
 	for i, l := range s.Layers {
 		to, ok := c.positive(l.To, units.Length, "a layer's outer position")
@@ -196,18 +204,31 @@ func (c *checker) body(s *dsl.Body) *Body {
 		}
 		seen[l.Name.Name] = true
 		if to <= inner {
-			c.diags.Add("range", l.To.Span(), "layer %s must end beyond %g m, where the previous layer ends", l.Name.Name, inner)
+			c.diags.Add("range", l.To.Span(), "layer %s must end beyond %s", l.Name.Name, innerText)
 			return nil
 		}
 		if i == len(s.Layers)-1 && math.Abs(to-b.Outer) > 1e-9*b.Outer {
-			c.diags.Add("range", l.To.Span(), "the last layer must end at the body's outer surface (%g m), not %g m", b.Outer, to)
+			c.diags.Add("range", l.To.Span(), "the last layer must end at the body's outer surface (%s), not %s",
+				c.shown(outerArg(args), b.Outer, units.Length), c.shown(l.To, to, units.Length))
 			return nil
 		}
 		b.Regions = append(b.Regions, &Region{Name: b.Name + "." + l.Name.Name, Layer: l.Name.Name, Inner: inner, Outer: to, Balances: map[int]*Balance{}})
 		inner = to
+		innerText = c.shown(l.To, to, units.Length) + ", where layer " + l.Name.Name + " ends"
 	}
 	b.Regions[len(b.Regions)-1].Outer = b.Outer
 	return b
+}
+
+// outerArg returns the value of the argument that sets a body's outer
+// size, or nil.
+func outerArg(args map[string]*dsl.Arg) dsl.Expr {
+	for _, k := range []string{"outer", "radius", "half_thickness"} {
+		if a, ok := args[k]; ok {
+			return a.Value
+		}
+	}
+	return nil
 }
 
 // args matches a call's arguments to parameter names: positional ones in
@@ -224,7 +245,14 @@ func (c *checker) args(call *dsl.Call, params, required []string) (map[string]*d
 				continue
 			}
 			if i >= len(params) {
-				c.diags.Add("argument", a.Range, "%s takes at most %d argument(s)", call.Fun.Name, len(params))
+				switch len(params) {
+				case 0:
+					c.diags.Add("argument", a.Range, "%s takes no arguments", call.Fun.Name)
+				case 1:
+					c.diags.Add("argument", a.Range, "%s takes one argument, %s", call.Fun.Name, params[0])
+				default:
+					c.diags.Add("argument", a.Range, "%s takes at most %d arguments: %s", call.Fun.Name, len(params), strings.Join(params, ", "))
+				}
 				ok = false
 				continue
 			}
@@ -234,8 +262,12 @@ func (c *checker) args(call *dsl.Call, params, required []string) (map[string]*d
 		named = true
 		k := a.Name.Name
 		if !contains(params, k) {
-			c.diags.Add("argument", a.Name.Range, "%s has no parameter %q; it takes %s", call.Fun.Name, k, strings.Join(params, ", ")).
-				Suggestion = Closest(k, params)
+			if len(params) == 0 {
+				c.diags.Add("argument", a.Name.Range, "%s takes no arguments", call.Fun.Name)
+			} else {
+				c.diags.Add("argument", a.Name.Range, "%s has no parameter %q; it takes %s", call.Fun.Name, k, strings.Join(params, ", ")).
+					Suggestion = Closest(k, params)
+			}
 			ok = false
 			continue
 		}
@@ -248,7 +280,11 @@ func (c *checker) args(call *dsl.Call, params, required []string) (map[string]*d
 	}
 	for _, r := range required {
 		if _, has := out[r]; !has && ok {
-			c.diags.Add("argument", call.Range, "%s needs %s = ...", call.Fun.Name, r)
+			if r == "value" {
+				c.diags.Add("argument", call.Range, "%s needs a value: %s(...)", call.Fun.Name, call.Fun.Name)
+			} else {
+				c.diags.Add("argument", call.Range, "%s needs %s = ...", call.Fun.Name, r)
+			}
 			ok = false
 		}
 	}
@@ -274,7 +310,7 @@ func (c *checker) region(p *dsl.Path) (*Body, []*Region, bool) {
 	name := p.Parts[0].Name
 	b, ok := c.bodies[name]
 	if !ok {
-		if _, declared := c.bodyDecl[name]; declared {
+		if _, declared := c.bodyDecl[name]; declared || c.broken[name] {
 			return nil, nil, false // the body had an error already
 		}
 		var cands []string
@@ -311,6 +347,9 @@ func (c *checker) region(p *dsl.Path) (*Body, []*Region, bool) {
 func (c *checker) speciesRef(id *dsl.Ident) (*Species, bool) {
 	sp, ok := c.species[id.Name]
 	if !ok {
+		if c.broken[id.Name] {
+			return nil, false
+		}
 		var cands []string
 		for n := range c.species {
 			cands = append(cands, n)
@@ -332,18 +371,24 @@ func (c *checker) checkBalances() {
 		sp, ok1 := c.speciesRef(s.Species)
 		b, regions, ok2 := c.region(s.Region)
 		if !ok1 || !ok2 {
+			c.balFailed[s.Region.Parts[0].Name] = true
 			continue
 		}
-		props := c.propMap(s.Props, balanceProps, "a balance")
+		props, _ := c.propMap(s.Props, balanceProps, "a balance")
 		bal := &Balance{Def: s.Range}
+		axial := b.Shape == ShortCylinder
 		if p, ok := props["diffusivity"]; ok {
-			bal.Diffusivity, _ = c.want(p.Value, &context{what: "a diffusivity", pos: true, conc: true}, units.Diffusivity, "a diffusivity")
+			bal.Diffusivity, _ = c.want(p.Value, &context{what: "a diffusivity", pos: true, axial: axial, conc: true}, units.Diffusivity, "a diffusivity")
 		}
 		if p, ok := props["source"]; ok {
-			bal.Source, _ = c.want(p.Value, &context{what: "a source", pos: true, conc: true, time: true}, units.ReactionRate, "a source (production rate per volume)")
+			var good bool
+			bal.Source, good = c.want(p.Value, &context{what: "a source", pos: true, axial: axial, conc: true, time: true}, units.ReactionRate, "a source (production rate per volume)")
+			if !good {
+				c.failed["source:"+b.Name+":"+sp.Name] = true
+			}
 		}
 		if p, ok := props["store"]; ok {
-			bal.Store, _ = c.want(p.Value, &context{what: "a store (amount held per volume)", pos: true, conc: true}, units.Concentration, "a store (amount held per volume)")
+			bal.Store, _ = c.want(p.Value, &context{what: "a store (amount held per volume)", pos: true, axial: axial, conc: true}, units.Concentration, "a store (amount held per volume)")
 			if bal.Store != nil && !bal.Store.Depends(len(c.m.Species)).Species[sp.Index] {
 				c.diags.Add("store", p.Value.Span(), "the store of %s must depend on the concentration %s (e.g. porosity * %s + sorbed amount)", sp.Name, sp.Name, sp.Name)
 			}
@@ -371,7 +416,7 @@ func (c *checker) checkBalances() {
 	}
 	for _, b := range c.m.Bodies {
 		sort.Ints(b.Species)
-		if c.opts.Lenient {
+		if c.opts.Lenient || c.hasBad || c.balFailed[b.Name] {
 			continue
 		}
 		if len(b.Species) == 0 {
@@ -424,7 +469,7 @@ func (c *checker) boundaryPlace(s *dsl.Boundary) (*Body, string, bool) {
 	name := s.Place.Parts[0].Name
 	b, ok := c.bodies[name]
 	if !ok {
-		if _, declared := c.bodyDecl[name]; declared {
+		if _, declared := c.bodyDecl[name]; declared || c.broken[name] {
 			return nil, "", false
 		}
 		var cands []string
@@ -441,6 +486,10 @@ func (c *checker) boundaryPlace(s *dsl.Boundary) (*Body, string, bool) {
 	}
 	side := s.Place.Parts[1].Name
 	if s.Interface != nil {
+		if b.Regions[0].Layer == "" {
+			c.diags.Add("unknown-name", s.Place.Range.Join(s.Interface.Range), "%s|%s is not an interface: body %s has no layers", side, s.Interface.Name, name)
+			return nil, "", false
+		}
 		var layers []string
 		for i, r := range b.Regions {
 			if r.Layer == side && i+1 < len(b.Regions) && b.Regions[i+1].Layer == s.Interface.Name {
@@ -597,8 +646,13 @@ func (c *checker) checkBoundaries() {
 		s := d.stmt.(*dsl.Boundary)
 		b, place, ok := c.boundaryPlace(s)
 		if !ok {
-			if b, isBody := c.bodies[s.Place.Parts[0].Name]; isBody && len(s.Place.Parts) == 2 {
-				c.failed[b.Name+"."+s.Place.Parts[1].Name] = true
+			// The statement was meant for some boundary of this body (or,
+			// when the body is unknown, of any body): do not report its
+			// boundaries as missing.
+			if _, known := c.bodies[s.Place.Parts[0].Name]; known {
+				c.failed[s.Place.Parts[0].Name+".*"] = true
+			} else {
+				c.failed["*"] = true
 			}
 			continue
 		}
@@ -610,7 +664,9 @@ func (c *checker) checkBoundaries() {
 				continue
 			}
 			if !containsInt(b.Species, sp.Index) {
-				c.diags.Add("condition", s.Species.Range, "%s has no balance in %s, so it needs no condition there", sp.Name, b.Name)
+				if !c.balFailed[b.Name] && !c.hasBad {
+					c.diags.Add("condition", s.Species.Range, "%s has no balance in %s, so it needs no condition there", sp.Name, b.Name)
+				}
 				continue
 			}
 			targets = []int{sp.Index}
@@ -650,6 +706,11 @@ func containsInt(xs []int, x int) bool {
 // ---- initial state ----
 
 func (c *checker) checkInitials() {
+	// Whole-body starting values first, then per-layer ones, which
+	// override them whatever their order in the file.
+	sort.SliceStable(c.initials, func(i, j int) bool {
+		return len(c.initials[i].stmt.(*dsl.Initially).Region.Parts) < len(c.initials[j].stmt.(*dsl.Initially).Region.Parts)
+	})
 	for _, d := range c.initials {
 		s := d.stmt.(*dsl.Initially)
 		sp, ok1 := c.speciesRef(s.Species)
@@ -658,12 +719,17 @@ func (c *checker) checkInitials() {
 			continue
 		}
 		if !containsInt(b.Species, sp.Index) {
-			c.diags.Add("initial", s.Species.Range, "%s has no balance in %s", sp.Name, b.Name)
+			if !c.balFailed[b.Name] && !c.hasBad {
+				c.diags.Add("initial", s.Species.Range, "%s has no balance in %s, so it needs no starting value there", sp.Name, b.Name)
+			}
 			continue
 		}
 		ctx := &context{what: "a starting value", pos: true, axial: b.Shape == ShortCylinder}
 		e, ok := c.want(s.Value, ctx, units.Concentration, "a starting value")
 		if !ok {
+			for _, r := range regions {
+				c.failed["initially:"+r.Name+":"+sp.Name] = true
+			}
 			continue
 		}
 		for _, r := range regions {
@@ -685,10 +751,17 @@ func (c *checker) checkStages() {
 			continue
 		}
 		st := &Stage{Name: s.Name.Name, Def: s.Range, Duration: dur, Conditions: map[string]map[string]map[int]*Condition{}}
+		type key struct {
+			body, place string
+			species     int
+		}
+		where := map[key]*dsl.Boundary{}
 		for _, in := range s.Stmts {
 			bs, isBoundary := in.(*dsl.Boundary)
 			if !isBoundary {
-				c.diags.Add("stage", in.Span(), "a stage may hold only boundary statements (the conditions that change)")
+				if _, isBad := in.(*dsl.BadStmt); !isBad {
+					c.diags.Add("stage", in.Span(), "a stage may hold only boundary statements (the conditions that change)")
+				}
 				continue
 			}
 			b, place, ok := c.boundaryPlace(bs)
@@ -699,6 +772,12 @@ func (c *checker) checkStages() {
 			if bs.Species != nil {
 				sp, ok := c.speciesRef(bs.Species)
 				if !ok {
+					continue
+				}
+				if !containsInt(b.Species, sp.Index) {
+					if !c.balFailed[b.Name] && !c.hasBad {
+						c.diags.Add("condition", bs.Species.Range, "%s has no balance in %s, so it needs no condition there", sp.Name, b.Name)
+					}
 					continue
 				}
 				targets = []int{sp.Index}
@@ -714,6 +793,13 @@ func (c *checker) checkStages() {
 				st.Conditions[b.Name][place] = map[int]*Condition{}
 			}
 			for _, si := range targets {
+				k := key{b.Name, place, si}
+				if prev, dup := where[k]; dup {
+					c.diags.Add("duplicate", bs.Range, "stage %s already sets %s.%s for %s", st.Name, b.Name, place, c.m.Species[si].Name).
+						Notes = []string{"the first is at " + prev.Range.String()}
+					continue
+				}
+				where[k] = bs
 				if old := b.Conditions[place][si]; old != nil && (old.Kind == Bath) != (cond.Kind == Bath) {
 					c.diags.Add("stage", bs.Range, "a stage cannot switch %s.%s between a bath and another condition", b.Name, place)
 					continue
@@ -735,7 +821,7 @@ func (c *checker) checkCompleteness() {
 			places = append(places, b.Regions[i].Layer+"|"+b.Regions[i+1].Layer)
 		}
 		for _, place := range places {
-			if c.failed[b.Name+"."+place] {
+			if c.failed[b.Name+"."+place] || c.failed[b.Name+".*"] || c.failed["*"] {
 				continue
 			}
 			for _, si := range b.Species {
@@ -747,7 +833,7 @@ func (c *checker) checkCompleteness() {
 		}
 		for _, r := range b.Regions {
 			for _, si := range b.Species {
-				if bal := r.Balances[si]; bal != nil && bal.Initial == nil {
+				if bal := r.Balances[si]; bal != nil && bal.Initial == nil && !c.failed["initially:"+r.Name+":"+c.m.Species[si].Name] {
 					c.diags.Add("missing", d.Name.Range, "%s has no starting value in %s; add `initially %s: %s = ...`",
 						c.m.Species[si].Name, r.Name, r.Name, c.m.Species[si].Name)
 				}
@@ -759,7 +845,7 @@ func (c *checker) checkCompleteness() {
 		for _, b := range c.m.Bodies {
 			used = used || containsInt(b.Species, sp.Index)
 		}
-		if !used && len(c.bodyDecl) > 0 {
+		if !used && len(c.bodyDecl) > 0 && !c.bodyFailed && len(c.balFailed) == 0 {
 			c.diags.Warn("unused", sp.Def, "species %s has no balance in any body", sp.Name)
 		}
 	}
@@ -881,9 +967,23 @@ var settingKeys = []string{"rtol", "atol", "cells", "method", "cluster"}
 var Methods = []string{"bdf"}
 
 func (c *checker) checkSettings() {
+	type setAt struct {
+		chunk int
+		p     *dsl.Property
+	}
+	earlier := map[string]setAt{}
 	for _, d := range c.settings {
 		s := d.stmt.(*dsl.Settings)
-		props := c.propMap(s.Props, settingKeys, "settings")
+		props, _ := c.propMap(s.Props, settingKeys, "settings")
+		for k, p := range props {
+			if prev, ok := earlier[k]; ok && prev.chunk == d.chunk {
+				c.diags.Add("duplicate", p.Key.Range, "%s is already set by an earlier settings statement", k).
+					Notes = []string{"first set at " + prev.p.Range.String()}
+				delete(props, k)
+				continue
+			}
+			earlier[k] = setAt{d.chunk, p}
+		}
 		st := &c.m.Settings
 		if p, ok := props["rtol"]; ok {
 			if v, ok := c.positive(p.Value, units.Dimensionless, "a relative tolerance"); ok {

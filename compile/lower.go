@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"sync"
 
 	"github.com/massline/massline/compile/fv"
 )
@@ -44,6 +45,14 @@ func (l *Lowered) Local(si int) int {
 // conditions (those of a stage), into a finite-volume specification.
 // It refuses, with an *UnsupportedError naming the construct, what the
 // one-dimensional solver cannot handle.
+//
+// A diffusivity that depends on the concentrations or the position
+// becomes an fv.DiffusivityFunc, and a store that is not affine in the
+// concentration an fv.StoreFunc, both evaluated by a Tape with exact
+// derivatives. A nonlinear store may depend only on the concentration of
+// its own species, and must increase with it: Lower checks its slope over
+// the range of concentrations the model starts from and imposes (the
+// discretisation checks it again at every evaluation).
 func Lower(m *Model, b *Body, conds map[string]map[int]*Condition, set Settings) (*Lowered, error) {
 	low := &Lowered{Species: append([]int(nil), b.Species...)}
 	ns := len(b.Species)
@@ -71,26 +80,44 @@ func Lower(m *Model, b *Body, conds map[string]map[int]*Condition, set Settings)
 			if bal.Diffusivity != nil {
 				d = bal.Diffusivity
 			}
-			dv, ok := d.IsConst()
-			if !ok {
-				return nil, &UnsupportedError{What: fmt.Sprintf("the diffusivity of %s in %s depends on concentration or position", sp.Name, r.Name)}
+			if dv, ok := d.IsConst(); ok {
+				layer.D[k] = dv
+			} else {
+				df, rep, err := lowerDiffusivity(m, b, r, si, d)
+				if err != nil {
+					return nil, err
+				}
+				if layer.Diffusivity == nil {
+					layer.Diffusivity = make([]fv.DiffusivityFunc, ns)
+				}
+				layer.Diffusivity[k] = df
+				layer.D[k] = rep
 			}
-			layer.D[k] = dv
 			layer.Capacity[k] = 1
 			if bal.Store != nil {
 				a, ok := bal.Store.AffineIn(len(m.Species))
 				if !ok {
-					return nil, &UnsupportedError{What: fmt.Sprintf("the store of %s in %s is not linear in the concentration (a nonlinear sorption isotherm)", sp.Name, r.Name)}
+					st, slope, err := lowerStore(m, b, r, si, bal.Store, conds)
+					if err != nil {
+						return nil, err
+					}
+					if layer.Store == nil {
+						layer.Store = make([]fv.StoreFunc, ns)
+					}
+					layer.Store[k] = st
+					layer.Capacity[k] = slope
 				}
 				for j, c := range a.Coef {
 					if j != si && c != 0 {
 						return nil, &UnsupportedError{What: fmt.Sprintf("the store of %s in %s depends on another species", sp.Name, r.Name)}
 					}
 				}
-				if a.Coef[si] <= 0 {
+				if ok && a.Coef[si] <= 0 {
 					return nil, fmt.Errorf("the store of %s in %s must grow with %s (its slope is %g)", sp.Name, r.Name, sp.Name, a.Coef[si])
 				}
-				layer.Capacity[k] = a.Coef[si]
+				if ok {
+					layer.Capacity[k] = a.Coef[si]
+				}
 			}
 			layer.Rate[k] = make([]float64, ns)
 			nonlinear = append(nonlinear, nil)
@@ -286,4 +313,167 @@ func kineticsFunc(ls []*layerKinetics, ns int) func(t, r float64, layer int, c, 
 			}
 		}
 	}
+}
+
+// exprFunc evaluates one model expression by a Tape under a mutex, so
+// that the functions handed to the discretisation are safe for concurrent
+// use (its output methods and several Problems may run at once).
+type exprFunc struct {
+	mu   sync.Mutex
+	tape *Tape
+	env  Env
+	grad []float64
+}
+
+func newExprFunc(e *Expr, nmodel int) *exprFunc {
+	return &exprFunc{tape: NewTape(e, nmodel), env: Env{C: make([]float64, nmodel)}, grad: make([]float64, nmodel)}
+}
+
+// lowerStore turns a store that is not affine into an fv.StoreFunc of the
+// concentration of species si, and returns with it a representative
+// slope (the secant over the range of concentrations in play) for the
+// discretisation's cell sharing and starting guesses. It refuses a store
+// that reads position, time or another species, and one that does not
+// increase over that range.
+func lowerStore(m *Model, b *Body, r *Region, si int, e *Expr, conds map[string]map[int]*Condition) (fv.StoreFunc, float64, error) {
+	sp := m.Species[si]
+	nm := len(m.Species)
+	deps := e.Depends(nm)
+	if deps.Pos || deps.Axial || deps.Time {
+		return nil, 0, &UnsupportedError{What: fmt.Sprintf("the store of %s in %s depends on position or time; a nonlinear store may depend only on the concentration %s", sp.Name, r.Name, sp.Name)}
+	}
+	for j, on := range deps.Species {
+		if on && j != si {
+			return nil, 0, &UnsupportedError{What: fmt.Sprintf("the store of %s in %s depends on another species (%s); a nonlinear store may depend only on the concentration %s", sp.Name, r.Name, m.Species[j].Name, sp.Name)}
+		}
+	}
+	x := newExprFunc(e, nm)
+	st := func(c float64) (float64, float64) {
+		x.mu.Lock()
+		x.env.C[si] = c
+		q := x.tape.Eval(&x.env, x.grad)
+		dq := x.grad[si]
+		x.mu.Unlock()
+		return q, dq
+	}
+	lo, hi := concentrationRange(b, r, si, conds)
+	// The slope must be positive over the range (checked at 65 points).
+	const samples = 64
+	for i := 0; i <= samples; i++ {
+		c := lo + (hi-lo)*float64(i)/samples
+		q, dq := st(c)
+		if math.IsNaN(q) || math.IsInf(q, 0) || math.IsNaN(dq) || math.IsInf(dq, 0) {
+			return nil, 0, fmt.Errorf("the store of %s in %s cannot be evaluated at %s = %g mol/m^3 (it gives %g with slope %g)", sp.Name, r.Name, sp.Name, c, q, dq)
+		}
+		if dq <= 0 {
+			return nil, 0, fmt.Errorf("the store of %s in %s must grow with %s: its slope is %g at %s = %g mol/m^3", sp.Name, r.Name, sp.Name, dq, sp.Name, c)
+		}
+		if hi == lo {
+			break
+		}
+	}
+	if hi > lo {
+		qlo, _ := st(lo)
+		qhi, _ := st(hi)
+		return st, (qhi - qlo) / (hi - lo), nil
+	}
+	_, dq := st(lo)
+	return st, dq, nil
+}
+
+// concentrationRange returns the smallest and largest concentration of
+// species si that the region starts from or a boundary imposes at the
+// start or at a switching time (inside the body: the outside value times
+// the partition coefficient), with 0 included.
+func concentrationRange(b *Body, r *Region, si int, conds map[string]map[int]*Condition) (lo, hi float64) {
+	add := func(v float64) {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return
+		}
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	if bal := r.Balances[si]; bal != nil && bal.Initial != nil {
+		for i := 0; i <= 8; i++ {
+			env := Env{R: r.Inner + (r.Outer-r.Inner)*float64(i)/8}
+			add(bal.Initial.Eval(&env))
+		}
+	}
+	for _, bySpecies := range conds {
+		c := bySpecies[si]
+		if c == nil {
+			continue
+		}
+		kp := c.Partition
+		if kp == 0 {
+			kp = 1
+		}
+		switch c.Kind {
+		case Fixed, Film:
+			if c.Value == nil {
+				continue
+			}
+			times := append([]float64{0}, c.Value.TimeStops()...)
+			for _, t := range times {
+				for _, tt := range []float64{t, math.Nextafter(t, math.Inf(1))} {
+					env := Env{T: tt}
+					add(kp * c.Value.Eval(&env))
+				}
+			}
+		case Bath:
+			add(kp * c.BathStart)
+		}
+	}
+	return lo, hi
+}
+
+// lowerDiffusivity turns a diffusivity that depends on the concentrations
+// or the position into an fv.DiffusivityFunc, and returns with it its
+// value at the middle of the region and the starting concentrations (used
+// by the discretisation only to share cells between layers).
+func lowerDiffusivity(m *Model, b *Body, r *Region, si int, e *Expr) (fv.DiffusivityFunc, float64, error) {
+	sp := m.Species[si]
+	nm := len(m.Species)
+	deps := e.Depends(nm)
+	if deps.Time || deps.Axial {
+		return nil, 0, &UnsupportedError{What: fmt.Sprintf("the diffusivity of %s in %s depends on time", sp.Name, r.Name)}
+	}
+	for j, on := range deps.Species {
+		if on && indexOf(b.Species, j) < 0 {
+			return nil, 0, fmt.Errorf("the diffusivity of %s in %s reads %s, which has no balance in %s", sp.Name, r.Name, m.Species[j].Name, b.Name)
+		}
+	}
+	x := newExprFunc(e, nm)
+	species := b.Species
+	df := func(pos float64, c, dD []float64) float64 {
+		x.mu.Lock()
+		x.env.R = pos
+		for k, sj := range species {
+			x.env.C[sj] = c[k]
+		}
+		var g []float64
+		if dD != nil {
+			g = x.grad
+		}
+		v := x.tape.Eval(&x.env, g)
+		if dD != nil {
+			for k, sj := range species {
+				dD[k] = g[sj]
+			}
+		}
+		x.mu.Unlock()
+		return v
+	}
+	mid := 0.5 * (r.Inner + r.Outer)
+	c := make([]float64, len(species))
+	for k, sj := range species {
+		if bal := r.Balances[sj]; bal != nil && bal.Initial != nil {
+			env := Env{R: mid}
+			c[k] = bal.Initial.Eval(&env)
+		}
+	}
+	rep := df(mid, c, nil)
+	if !(rep > 0) || math.IsInf(rep, 0) {
+		return nil, 0, fmt.Errorf("the diffusivity of %s in %s is %g at r = %g m with the starting concentrations; it must be positive", sp.Name, r.Name, rep, mid)
+	}
+	return df, rep, nil
 }

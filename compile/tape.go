@@ -113,12 +113,18 @@ func (t *Tape) Eval(env *Env, grad []float64) float64 {
 	return t.val[last]
 }
 
+// axpy adds a·x to dst. Entries where x is zero are skipped, so that a
+// partial derivative that is structurally zero stays zero when a is
+// infinite (0·∞ would be NaN): √c at c = 0 has an infinite derivative
+// with respect to c but none with respect to the other concentrations.
 func axpy(dst []float64, a float64, x []float64) {
 	if a == 0 {
 		return
 	}
 	for i := range dst {
-		dst[i] += a * x[i]
+		if x[i] != 0 {
+			dst[i] += a * x[i]
+		}
 	}
 }
 

@@ -362,9 +362,14 @@ type (
 		X     Expr
 	}
 
-	// BadStmt stands where a statement could not be parsed.
+	// BadStmt stands where a statement could not be parsed. Keyword is
+	// the keyword it starts with, if any, and Name the name it declares
+	// when it is a let, species, body or stage whose name could be read;
+	// the checker uses them to stay quiet about the statement's uses.
 	BadStmt struct {
-		Range diag.Range
+		Range   diag.Range
+		Keyword string
+		Name    *Ident
 	}
 )
 

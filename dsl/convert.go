@@ -1,8 +1,11 @@
 package dsl
 
 import (
+	"errors"
 	"strconv"
 	"strings"
+	"unicode"
+	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2/lexer"
 	"github.com/massline/massline/dsl/diag"
@@ -13,6 +16,7 @@ import (
 // only the line and byte offset need shifting.
 type converter struct {
 	file       string
+	src        string // the whole source; offsets from pos index it
 	baseOffset int
 	baseLine   int
 	diags      diag.List
@@ -26,12 +30,107 @@ func (c *converter) rng(a, b lexer.Position) diag.Range {
 	return diag.Range{File: c.file, Start: c.pos(a), End: c.pos(b)}
 }
 
+// stmts converts a list of statements. A statement that starts on the
+// line where the previous one ended is an error (one statement per line):
+// both become one BadStmt, so that the checker does not see half of a
+// mistake such as "let c = 5 mm".
 func (c *converter) stmts(in []*gStmt) []Stmt {
 	out := make([]Stmt, 0, len(in))
-	for _, s := range in {
-		out = append(out, c.stmt(s))
+	for _, g := range in {
+		s := c.stmt(g)
+		if n := len(out); n > 0 && s.Span().Start.Line == out[n-1].Span().End.Line {
+			prev := out[n-1]
+			c.sameLine(prev, s)
+			bad := &BadStmt{Range: prev.Span().Join(s.Span())}
+			if b, ok := prev.(*BadStmt); ok {
+				bad.Keyword, bad.Name = b.Keyword, b.Name
+			} else {
+				bad.Keyword, bad.Name = declared(prev)
+			}
+			out[n-1] = bad
+			continue
+		}
+		out = append(out, s)
 	}
 	return out
+}
+
+// declared returns the keyword of a statement and the name it declares.
+func declared(s Stmt) (string, *Ident) {
+	switch s := s.(type) {
+	case *Let:
+		return "let", s.Name
+	case *Species:
+		return "species", s.Name
+	case *Body:
+		return "body", s.Name
+	case *Stage:
+		return "stage", s.Name
+	case *Run:
+		return "run", nil
+	}
+	return "", nil
+}
+
+// followers says what must come after the words that continue a
+// statement, for the message when one ends a line.
+var followers = map[string]string{
+	"every": "a time step", "at": "one or more times", "from": "a value", "to": "a value",
+	"within": "a tolerance", "until": "an end time", "scale": "linear, log or sqrt",
+	"steps": "a number of steps", "in": "a body or values", "for": "a species or a duration",
+	"log": "a number of times", "against": "a data file name in quotes",
+}
+
+// sameLine reports a statement that starts on the line where prev ends.
+func (c *converter) sameLine(prev, s Stmt) {
+	r := s.Span()
+	if x, ok := s.(*ExprStmt); ok {
+		text := c.text(r)
+		if id, ok := x.X.(*Ident); ok {
+			if what, ok := followers[id.Name]; ok {
+				c.diags.Add("syntax", r, "%q must be followed by %s", id.Name, what)
+				return
+			}
+		}
+		before := strings.TrimRight(c.text(diag.Range{Start: prev.Span().Start, End: r.Start}), " \t")
+		num := trailingNumber(before)
+		if num != "" && text != "" && !isDigit(text[0]) && text[0] != '(' && text[0] != '-' {
+			c.diags.Add("syntax", r, "a unit is written in brackets right after its number").
+				Suggestion = num + " [" + normalizeUnit(text) + "]"
+			return
+		}
+	}
+	c.diags.Add("syntax", r, "a new statement cannot start on the same line as the previous one; put each statement on a line of its own")
+}
+
+// trailingNumber returns the number literal that ends s, or "".
+func trailingNumber(s string) string {
+	i := len(s)
+	for i > 0 && strings.IndexByte("0123456789.eE+-", s[i-1]) >= 0 {
+		i--
+	}
+	for i < len(s) && !isDigit(s[i]) && s[i] != '.' {
+		i++
+	}
+	num := s[i:]
+	if num == "" || !isDigit(num[len(num)-1]) || strictNumberEnd(num) != len(num) {
+		return ""
+	}
+	if i > 0 {
+		if r, _ := utf8.DecodeLastRuneInString(s[:i]); r == '_' || unicode.IsLetter(r) || unicode.IsDigit(r) {
+			return ""
+		}
+	}
+	return num
+}
+
+// text returns the source text of a range.
+func (c *converter) text(r diag.Range) string {
+	a, b := r.Start.Offset, r.End.Offset
+	if a < 0 || b > len(c.src) || a > b {
+		return ""
+	}
+	return c.src[a:b]
 }
 
 func (c *converter) ident(g *gIdent) *Ident {
@@ -45,13 +144,17 @@ func (c *converter) str(g *gString) *Str {
 	if g == nil {
 		return nil
 	}
+	r := c.rng(g.Pos, g.EndPos)
+	if len(g.Value) < 2 || !strings.HasSuffix(g.Value, `"`) || strings.HasSuffix(g.Value, `\"`) && !validQuoted(g.Value) {
+		c.diags.Add("syntax", r, "this string is not closed; end it with \" on the same line")
+		return &Str{Range: r, Value: strings.TrimPrefix(g.Value, `"`)}
+	}
 	v, err := strconv.Unquote(g.Value)
 	if err != nil {
-		r := c.rng(g.Pos, g.EndPos)
-		c.diags.Add("syntax", r, "the string %s has an invalid escape sequence", g.Value)
+		c.diags.Add("syntax", r, "the string %s has an invalid escape sequence; write \\\\ for a backslash", g.Value)
 		v = strings.Trim(g.Value, `"`)
 	}
-	return &Str{Range: c.rng(g.Pos, g.EndPos), Value: v}
+	return &Str{Range: r, Value: v}
 }
 
 func (c *converter) path(g *gPath) *Path {
@@ -84,13 +187,28 @@ func (c *converter) exprs(in []*gExpr) []Expr {
 	return out
 }
 
+// stmt converts one statement. A statement in which conversion found an
+// error (a malformed number, an unclosed string) becomes a BadStmt.
 func (c *converter) stmt(s *gStmt) Stmt {
+	n := len(c.diags)
+	out := c.stmt1(s)
+	if len(c.diags) > n {
+		if _, isBad := out.(*BadStmt); !isBad {
+			kw, name := declared(out)
+			return &BadStmt{Range: out.Span(), Keyword: kw, Name: name}
+		}
+	}
+	return out
+}
+
+func (c *converter) stmt1(s *gStmt) Stmt {
 	r := c.rng(s.Pos, s.EndPos)
 	switch {
 	case s.Version != nil:
 		n, err := strconv.Atoi(s.Version.Number)
-		if err != nil {
+		if err != nil || n > 1<<20 {
 			c.diags.Add("syntax", r, "the language version must be a whole number, not %s", s.Version.Number)
+			return &BadStmt{Range: r, Keyword: "massline"}
 		}
 		return &Version{Range: r, Number: n}
 	case s.Use != nil:
@@ -118,7 +236,15 @@ func (c *converter) stmt(s *gStmt) Stmt {
 		return &Stage{Range: r, Name: c.ident(s.Stage.Name), Duration: c.expr(s.Stage.Duration), Stmts: c.stmts(s.Stage.Stmts)}
 	case s.Run != nil:
 		g := s.Run
-		return &Run{Range: r, Steady: g.Steady, Until: c.optExpr(g.Until), Every: c.optExpr(g.Every), At: c.exprs(g.At), LogN: c.optExpr(g.LogN), From: c.optExpr(g.From)}
+		run := &Run{Range: r, Steady: g.Steady, Until: c.optExpr(g.Until)}
+		out := g.Out
+		if out == nil {
+			out = g.Only
+		}
+		if out != nil {
+			run.Every, run.At, run.LogN, run.From = c.optExpr(out.Every), c.exprs(out.At), c.optExpr(out.LogN), c.optExpr(out.From)
+		}
+		return run
 	case s.Settings != nil:
 		return &Settings{Range: r, Props: c.props(s.Settings.Props)}
 	case s.Show != nil:
@@ -233,13 +359,17 @@ func (c *converter) primary(e *gPrimary) Expr {
 	switch {
 	case e.Number != nil:
 		n := &Number{Range: r, Text: e.Number.Digits}
-		v, err := strconv.ParseFloat(e.Number.Digits, 64)
-		if err != nil {
-			c.diags.Add("syntax", r, "the number %s is out of range", e.Number.Digits)
-		}
-		n.Value = v
+		n.Value = c.number(e.Number)
 		if u := e.Number.Unit; u != nil {
-			n.Unit = &Unit{Range: c.rng(u.Pos, u.EndPos), Text: u.Text[1 : len(u.Text)-1]}
+			ur := c.rng(u.Pos, u.EndPos)
+			text := strings.TrimPrefix(u.Text, "[")
+			switch {
+			case !strings.HasSuffix(text, "]"):
+				c.diags.Add("syntax", ur, "this unit bracket is not closed; write [%s]", strings.TrimSpace(text))
+			case strings.TrimSpace(strings.TrimSuffix(text, "]")) == "":
+				c.diags.Add("syntax", ur, "the unit brackets are empty; write [1] for a plain number, or leave them out")
+			}
+			n.Unit = &Unit{Range: ur, Text: strings.TrimSuffix(text, "]")}
 		}
 		return n
 	case e.Cond != nil:
@@ -258,6 +388,69 @@ func (c *converter) primary(e *gPrimary) Expr {
 		return &Paren{Range: r, X: c.expr(e.Paren)}
 	}
 	return &BadExpr{Range: r}
+}
+
+// number reads the digits of a number token, reporting a malformed one:
+// the lexer lets letters and dots stick to a number so that "3mm" and
+// "1.2.3" can be explained here.
+func (c *converter) number(g *gNumber) float64 {
+	text := g.Digits
+	r := c.rng(g.Pos, g.Pos)
+	r.End.Offset += len(text)
+	r.End.Column += utf8.RuneCountInString(text)
+	v, err := strconv.ParseFloat(text, 64)
+	if err == nil {
+		return v
+	}
+	if errors.Is(err, strconv.ErrRange) && strictNumberEnd(text) == len(text) {
+		c.diags.Add("syntax", r, "the number %s is too large", text)
+		return 0
+	}
+	end := strictNumberEnd(text)
+	if end < len(text) {
+		rest, _ := utf8.DecodeRuneInString(text[end:])
+		if unicode.IsLetter(rest) && !strings.ContainsAny(text[end:], ".") {
+			c.diags.Add("syntax", r, "a unit is written in brackets after its number").
+				Suggestion = text[:end] + " [" + text[end:] + "]"
+			return 0
+		}
+	}
+	c.diags.Add("syntax", r, "%s is not a number", text)
+	return 0
+}
+
+// strictNumberEnd returns the end of the well-formed number at the start
+// of text.
+func strictNumberEnd(text string) int {
+	j := 0
+	for j < len(text) && isDigit(text[j]) {
+		j++
+	}
+	if j < len(text) && text[j] == '.' {
+		j++
+		for j < len(text) && isDigit(text[j]) {
+			j++
+		}
+	}
+	if j < len(text) && (text[j] == 'e' || text[j] == 'E') {
+		k := j + 1
+		if k < len(text) && (text[k] == '+' || text[k] == '-') {
+			k++
+		}
+		if k < len(text) && isDigit(text[k]) {
+			for k < len(text) && isDigit(text[k]) {
+				k++
+			}
+			j = k
+		}
+	}
+	return j
+}
+
+// validQuoted reports whether s is a complete quoted string.
+func validQuoted(s string) bool {
+	_, err := strconv.Unquote(s)
+	return err == nil
 }
 
 func (c *converter) call(g *gCall) *Call {

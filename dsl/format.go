@@ -8,14 +8,24 @@ import (
 
 // Format returns the canonical layout of a parsed file: one statement per
 // line, two-space indentation inside blocks, single spaces around binary
-// operators (none around ^), "=" aligned in runs of consecutive let
-// statements, at most one blank line between statements, and every
-// comment kept in place. Formatting the output again gives the same text.
+// operators (none around ^), units without spaces inside their brackets,
+// "=" aligned in runs of let statements on consecutive lines (a comment on
+// a line of its own ends a run), a block with one short property on one
+// line and others one property per line, and at most one blank line
+// between statements and between the items of a block, kept where the
+// source has one (also between a comment and what follows it).
+//
+// Every comment is kept: a comment on a line of its own stays before the
+// item that follows it, and a comment after an item on its line (or after
+// a block's opening brace) stays on that line, two spaces after it. A
+// comment inside an expression written over several lines moves to the
+// line after the statement. Formatting the output again gives the same
+// text, and the output parses to the same tree.
 //
 // Format must be given a file without syntax errors (a *BadStmt is
 // written back as its original text).
 func Format(f *File) string {
-	p := &printer{src: f.Source, comments: f.Comments}
+	p := &printer{src: f.Source, comments: f.Comments, limit: len(f.Source) + 1}
 	p.stmts(f.Stmts, 0, true)
 	p.flushComments(len(f.Source)+1, 0, true)
 	out := strings.TrimRight(p.b.String(), "\n")
@@ -30,6 +40,17 @@ type printer struct {
 	src      string
 	comments []*Comment
 	next     int // index of the first comment not yet written
+	// limit is the offset of the closing brace of the block being
+	// written: a comment after it is not a trailing comment of an item.
+	limit int
+}
+
+// within runs f with the limit set to the closing brace at end.
+func (p *printer) within(end int, f func()) {
+	old := p.limit
+	p.limit = end
+	f()
+	p.limit = old
 }
 
 // blankBefore reports whether the source has an empty line between the
@@ -70,6 +91,51 @@ func (p *printer) flushComments(off, indent int, top bool) {
 	}
 }
 
+// leading writes the comments before the item at off and keeps a blank
+// line between them and the item when the source has one.
+func (p *printer) leading(off, indent int) {
+	n := p.next
+	p.flushComments(off, indent, false)
+	if p.next > n && p.blankBefore(off) {
+		p.b.WriteByte('\n')
+	}
+}
+
+// gap writes a blank line before an item of a block (not the first) when
+// the source has one before it or before its leading comments.
+func (p *printer) gap(i, off int) {
+	if i > 0 && p.blankBefore(p.firstOffset(off)) {
+		p.b.WriteByte('\n')
+	}
+}
+
+// openBlock writes " {" for the block of the statement starting at
+// start, with a comment that follows the brace on its line.
+func (p *printer) openBlock(start int) {
+	p.b.WriteString(" {")
+	if off := p.braceAfter(start); off >= 0 && p.next < len(p.comments) {
+		c := p.comments[p.next]
+		if c.Range.Start.Offset > off && strings.Trim(p.src[off+1:c.Range.Start.Offset], " \t\r") == "" {
+			p.b.WriteString("  " + c.Text)
+			p.next++
+		}
+	}
+	p.b.WriteByte('\n')
+}
+
+// braceAfter returns the offset of the first "{" token at or after off,
+// or -1.
+func (p *printer) braceAfter(off int) int {
+	for i := off; i < len(p.src); {
+		typ, end := scanToken(p.src, i)
+		if typ == tokOp && p.src[i] == '{' {
+			return i
+		}
+		i = end
+	}
+	return -1
+}
+
 // trailing writes a comment that sits on the same line as the end of the
 // node ending at endOff, if any.
 func (p *printer) trailing(endOff int) {
@@ -83,7 +149,7 @@ func (p *printer) trailing(endOff int) {
 	} else {
 		lineEnd += endOff
 	}
-	if c.Range.Start.Offset >= endOff && c.Range.Start.Offset < lineEnd {
+	if c.Range.Start.Offset >= endOff && c.Range.Start.Offset < lineEnd && c.Range.Start.Offset < p.limit {
 		p.b.WriteString("  ")
 		p.b.WriteString(c.Text)
 		p.next++
@@ -100,21 +166,34 @@ func (p *printer) hasCommentIn(a, b int) bool {
 	return false
 }
 
+// hasLineCommentIn reports whether a comment on a line of its own starts
+// inside [a, b); trailing comments do not count.
+func (p *printer) hasLineCommentIn(a, b int) bool {
+	for _, c := range p.comments[p.next:] {
+		off := c.Range.Start.Offset
+		if off >= a && off < b {
+			ls := strings.LastIndexByte(p.src[:off], '\n') + 1
+			if strings.Trim(p.src[ls:off], " \t\r") == "" {
+				return true
+			}
+		}
+	}
+	return false
+}
+
 func (p *printer) stmts(list []Stmt, indent int, top bool) {
 	for i := 0; i < len(list); i++ {
 		s := list[i]
 		start := s.Span().Start.Offset
-		if i > 0 && p.blankBefore(p.firstOffset(start)) {
-			p.b.WriteByte('\n')
-		}
-		p.flushComments(start, indent, top)
+		p.gap(i, start)
+		p.leading(start, indent)
 		// Align "=" across a run of let statements on consecutive lines.
 		if _, ok := s.(*Let); ok {
 			j := i
 			width := 0
 			for j < len(list) {
 				l, ok := list[j].(*Let)
-				if !ok || (j > i && (p.blankBefore(p.firstOffset(l.Range.Start.Offset)) || p.hasCommentIn(list[j-1].Span().End.Offset, l.Range.Start.Offset))) {
+				if !ok || (j > i && (p.blankBefore(p.firstOffset(l.Range.Start.Offset)) || p.hasLineCommentIn(list[j-1].Span().End.Offset, l.Range.Start.Offset))) {
 					break
 				}
 				width = max(width, utf8.RuneCountInString(l.Name.Name))
@@ -123,7 +202,7 @@ func (p *printer) stmts(list []Stmt, indent int, top bool) {
 			for k := i; k < j; k++ {
 				l := list[k].(*Let)
 				if k > i {
-					p.flushComments(l.Range.Start.Offset, indent, top)
+					p.leading(l.Range.Start.Offset, indent)
 				}
 				p.b.WriteString(strings.Repeat("  ", indent))
 				p.b.WriteString("let " + l.Name.Name + strings.Repeat(" ", width-utf8.RuneCountInString(l.Name.Name)) + " = " + p.expr(l.Value))
@@ -164,23 +243,26 @@ func (p *printer) stmt(s Stmt, indent int) {
 		w("let ", s.Name.Name, " = ", p.expr(s.Value))
 	case *Species:
 		w("species ", s.Name.Name)
-		p.props(s.Props, indent, s.Range)
+		p.props(s.Props, indent, s.Range.Start.Offset)
 	case *Body:
 		w("body ", s.Name.Name, " = ", p.expr(s.Shape))
 		if len(s.Layers) > 0 {
-			w(" {\n")
-			for _, l := range s.Layers {
-				p.flushComments(l.Range.Start.Offset, indent+1, false)
-				w(strings.Repeat("  ", indent+1), "layer ", l.Name.Name, " to ", p.expr(l.To))
-				p.trailing(l.Range.End.Offset)
-				w("\n")
-			}
+			p.openBlock(s.Shape.Range.End.Offset)
+			p.within(s.Range.End.Offset-1, func() {
+				for i, l := range s.Layers {
+					p.gap(i, l.Range.Start.Offset)
+					p.leading(l.Range.Start.Offset, indent+1)
+					w(strings.Repeat("  ", indent+1), "layer ", l.Name.Name, " to ", p.expr(l.To))
+					p.trailing(l.Range.End.Offset)
+					w("\n")
+				}
+			})
 			p.flushComments(s.Range.End.Offset-1, indent+1, false)
 			w(strings.Repeat("  ", indent), "}")
 		}
 	case *Balance:
 		w("balance ", s.Species.Name, " in ", s.Region.String())
-		p.props(s.Props, indent, s.Range)
+		p.props(s.Props, indent, s.Range.Start.Offset)
 	case *Boundary:
 		w("boundary ", s.Place.String())
 		if s.Interface != nil {
@@ -193,8 +275,9 @@ func (p *printer) stmt(s Stmt, indent int) {
 	case *Initially:
 		w("initially ", s.Region.String(), ": ", s.Species.Name, " = ", p.expr(s.Value))
 	case *Stage:
-		w("stage ", s.Name.Name, " for ", p.expr(s.Duration), " {\n")
-		p.stmts(s.Stmts, indent+1, false)
+		w("stage ", s.Name.Name, " for ", p.expr(s.Duration))
+		p.openBlock(s.Duration.Span().End.Offset)
+		p.within(s.Range.End.Offset-1, func() { p.stmts(s.Stmts, indent+1, false) })
 		p.flushComments(s.Range.End.Offset-1, indent+1, false)
 		w(strings.Repeat("  ", indent), "}")
 	case *Run:
@@ -220,7 +303,7 @@ func (p *printer) stmt(s Stmt, indent int) {
 			w(" {}")
 			return
 		}
-		p.props(s.Props, indent, s.Range)
+		p.props(s.Props, indent, s.Range.Start.Offset)
 	case *Show:
 		w("show ", p.list(s.Items))
 		if len(s.At) > 0 {
@@ -246,8 +329,8 @@ func (p *printer) stmt(s Stmt, indent int) {
 				w(" log")
 			}
 		}
-		w(" {\n")
-		p.stmts(s.Stmts, indent+1, false)
+		p.openBlock(v.Range.End.Offset)
+		p.within(s.Range.End.Offset-1, func() { p.stmts(s.Stmts, indent+1, false) })
 		p.flushComments(s.Range.End.Offset-1, indent+1, false)
 		w(strings.Repeat("  ", indent), "}")
 	case *Fit:
@@ -258,13 +341,17 @@ func (p *printer) stmt(s Stmt, indent int) {
 			}
 			w(fp.Name.Name, " from ", p.expr(fp.Low), " to ", p.expr(fp.High))
 		}
-		w(" against ", strconv.Quote(s.Data.Value), " {\n")
-		for _, c := range s.Columns {
-			p.flushComments(c.Range.Start.Offset, indent+1, false)
-			w(strings.Repeat("  ", indent+1), p.expr(c.Target), " = ", strconv.Quote(c.Column.Value))
-			p.trailing(c.Range.End.Offset)
-			w("\n")
-		}
+		w(" against ", strconv.Quote(s.Data.Value))
+		p.openBlock(s.Data.Range.End.Offset)
+		p.within(s.Range.End.Offset-1, func() {
+			for i, c := range s.Columns {
+				p.gap(i, c.Range.Start.Offset)
+				p.leading(c.Range.Start.Offset, indent+1)
+				w(strings.Repeat("  ", indent+1), p.expr(c.Target), " = ", strconv.Quote(c.Column.Value))
+				p.trailing(c.Range.End.Offset)
+				w("\n")
+			}
+		})
 		p.flushComments(s.Range.End.Offset-1, indent+1, false)
 		w(strings.Repeat("  ", indent), "}")
 	case *Print:
@@ -280,27 +367,34 @@ func (p *printer) stmt(s Stmt, indent int) {
 
 // props writes a property block: on one line when it has a single short
 // property and no comments, else one property per line.
-func (p *printer) props(props []*Property, indent int, r interface{ String() string }) {
+func (p *printer) props(props []*Property, indent int, start int) {
 	if len(props) == 0 {
 		return
 	}
-	first := props[0].Range.Start.Offset
 	last := props[len(props)-1].Range.End.Offset
-	if len(props) == 1 && !p.hasCommentIn(first, last+1) {
+	open := p.braceAfter(start)
+	end := p.blockEnd(last)
+	if len(props) == 1 && open >= 0 && !p.hasCommentIn(open, end) {
 		line := "{ " + props[0].Key.Name + " = " + p.expr(props[0].Value) + " }"
-		if len(line)+len(p.currentLine()) <= 80 && !p.commentOnLineAfter(last) {
+		if utf8.RuneCountInString(line)+utf8.RuneCountInString(p.currentLine()) <= 80 {
 			p.b.WriteString(" " + line)
 			return
 		}
 	}
-	p.b.WriteString(" {\n")
-	for _, pr := range props {
-		p.flushComments(pr.Range.Start.Offset, indent+1, false)
-		p.b.WriteString(strings.Repeat("  ", indent+1) + pr.Key.Name + " = " + p.expr(pr.Value))
-		p.trailing(pr.Range.End.Offset)
-		p.b.WriteByte('\n')
+	if open >= 0 {
+		p.openBlock(open)
+	} else {
+		p.b.WriteString(" {\n")
 	}
-	end := p.blockEnd(last)
+	p.within(end, func() {
+		for i, pr := range props {
+			p.gap(i, pr.Range.Start.Offset)
+			p.leading(pr.Range.Start.Offset, indent+1)
+			p.b.WriteString(strings.Repeat("  ", indent+1) + pr.Key.Name + " = " + p.expr(pr.Value))
+			p.trailing(pr.Range.End.Offset)
+			p.b.WriteByte('\n')
+		}
+	})
 	p.flushComments(end, indent+1, false)
 	p.b.WriteString(strings.Repeat("  ", indent) + "}")
 }
@@ -308,31 +402,22 @@ func (p *printer) props(props []*Property, indent int, r interface{ String() str
 // blockEnd finds the offset of the closing brace after off.
 func (p *printer) blockEnd(off int) int {
 	depth := 0
-	for i := off; i < len(p.src); i++ {
-		switch p.src[i] {
-		case '#':
-			j := strings.IndexByte(p.src[i:], '\n')
-			if j < 0 {
-				return len(p.src)
+	for i := off; i < len(p.src); {
+		typ, end := scanToken(p.src, i)
+		if typ == tokOp {
+			switch p.src[i] {
+			case '{':
+				depth++
+			case '}':
+				if depth == 0 {
+					return i
+				}
+				depth--
 			}
-			i += j
-		case '{':
-			depth++
-		case '}':
-			if depth == 0 {
-				return i
-			}
-			depth--
 		}
+		i = end
 	}
 	return len(p.src)
-}
-
-// commentOnLineAfter reports whether a comment follows off on its line
-// before the block closes (it would be lost on a one-line block).
-func (p *printer) commentOnLineAfter(off int) bool {
-	end := p.blockEnd(off)
-	return p.hasCommentIn(off, end)
 }
 
 func (p *printer) currentLine() string {

@@ -37,29 +37,6 @@ func IsReserved(word string) bool {
 // Keywords returns the reserved words of the language.
 func Keywords() []string { return append([]string(nil), reserved...) }
 
-func keywordPattern() string {
-	p := `\b(?:`
-	for i, r := range reserved {
-		if i > 0 {
-			p += "|"
-		}
-		p += r
-	}
-	return p + `)\b`
-}
-
-var lexDef = lexer.MustSimple([]lexer.SimpleRule{
-	{Name: "Comment", Pattern: `#[^\n]*`},
-	{Name: "Whitespace", Pattern: `[ \t\r\n]+`},
-	{Name: "String", Pattern: `"(?:\\.|[^"\\\n])*"`},
-	{Name: "Unit", Pattern: `\[[^\]\n]*\]`},
-	{Name: "Number", Pattern: `(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?`},
-	{Name: "Keyword", Pattern: keywordPattern()},
-	{Name: "Ident", Pattern: `[\p{L}_][\p{L}\p{N}_]*`},
-	{Name: "Op", Pattern: `<=|>=|==|!=|[-+*/^<>=(),.:{}|]`},
-	{Name: "Stray", Pattern: `.`},
-})
-
 type gFile struct {
 	Stmts []*gStmt `parser:"@@*"`
 }
@@ -177,13 +154,22 @@ type gStage struct {
 	Stmts    []*gStmt `parser:"@@* '}'"`
 }
 
+// gRun is "run steady", "run until T [output]", "run [output]" or "run"
+// (through the stages). No alternative may match nothing: participle
+// refuses a branch that matches without consuming input.
 type gRun struct {
 	Steady bool     `parser:"'run' ( @'steady'"`
-	Until  *gExpr   `parser:"  | ('until' @@)?"`
-	Every  *gExpr   `parser:"    ( 'every' @@"`
-	At     []*gExpr `parser:"    | 'at' @@ (',' @@)*"`
-	LogN   *gExpr   `parser:"    | 'log' @@"`
-	From   *gExpr   `parser:"      'from' @@ )? )"`
+	Until  *gExpr   `parser:"      | 'until' @@"`
+	Out    *gRunOut `parser:"        @@?"`
+	Only   *gRunOut `parser:"      | @@ )?"`
+}
+
+// gRunOut says when to report results.
+type gRunOut struct {
+	Every *gExpr   `parser:"  'every' @@"`
+	At    []*gExpr `parser:"| 'at' @@ (',' @@)*"`
+	LogN  *gExpr   `parser:"| 'log' @@"`
+	From  *gExpr   `parser:"  'from' @@"`
 }
 
 type gSettings struct {

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"unicode"
 	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2"
@@ -24,23 +25,25 @@ func Parse(filename, src string) (f *File, diags diag.List) {
 		if r := recover(); r != nil {
 			diags.Add("internal", diag.Range{File: filename, Start: diag.Pos{Line: 1, Column: 1}},
 				"the parser failed unexpectedly (%v); please report this model", r)
-			f.Stmts = nil
+			f.Stmts = []Stmt{&BadStmt{Range: rangeAt(filename, src, 0, len(src))}}
 		}
 	}()
 	if len(src) > MaxSourceBytes {
-		diags.Add("too-large", diag.Range{File: filename, Start: diag.Pos{Line: 1, Column: 1}},
+		diags.Add("too-large", diag.Range{File: filename, Start: diag.Pos{Line: 1, Column: 1}, End: diag.Pos{Line: 1, Column: 1}},
 			"the source is %d bytes; the limit is %d", len(src), MaxSourceBytes)
+		f.Stmts = []Stmt{&BadStmt{Range: diag.Range{File: filename, Start: diag.Pos{Line: 1, Column: 1}, End: diag.Pos{Line: 1, Column: 1}}}}
 		return f, diags
 	}
 	if !utf8.ValidString(src) {
 		off := firstInvalidUTF8(src)
 		diags.Add("syntax", rangeAt(filename, src, off, off+1), "the source is not valid UTF-8 text")
+		f.Stmts = []Stmt{&BadStmt{Range: rangeAt(filename, src, 0, len(src))}}
 		return f, diags
 	}
 	f.Comments = collectComments(filename, src)
 	g, err := fileParser.ParseString(filename, src)
 	if err == nil {
-		c := &converter{file: filename}
+		c := &converter{file: filename, src: src}
 		f.Stmts = c.stmts(g.Stmts)
 		diags.Append(c.diags)
 		diags.Sort()
@@ -51,12 +54,13 @@ func Parse(filename, src string) (f *File, diags diag.List) {
 	// still reach the checker.
 	for _, ch := range splitStatements(src) {
 		text := src[ch.start:ch.end]
-		c := &converter{file: filename, baseOffset: ch.start, baseLine: ch.line - 1}
+		c := &converter{file: filename, src: src, baseOffset: ch.start, baseLine: ch.line - 1}
 		g, err := fileParser.ParseString(filename, text)
 		if err != nil {
-			d := c.syntaxError(err, text)
-			diags = append(diags, d)
-			f.Stmts = append(f.Stmts, &BadStmt{Range: rangeAt(filename, src, ch.start, trimEnd(src, ch.start, ch.end))})
+			diags = append(diags, c.syntaxError(err, text))
+			bad := &BadStmt{Range: rangeAt(filename, src, ch.start, trimEnd(src, ch.start, ch.end))}
+			c.salvage(bad, tokens(text))
+			f.Stmts = append(f.Stmts, bad)
 			continue
 		}
 		f.Stmts = append(f.Stmts, c.stmts(g.Stmts)...)
@@ -66,84 +70,221 @@ func Parse(filename, src string) (f *File, diags diag.List) {
 	return f, diags
 }
 
+// salvage records in a statement that could not be parsed the keyword it
+// starts with and, for a declaration, the name it declares, so that the
+// checker can stay quiet about later uses of that name.
+func (c *converter) salvage(bad *BadStmt, toks []lexer.Token) {
+	if len(toks) == 0 || toks[0].Type != tokKeyword {
+		return
+	}
+	bad.Keyword = toks[0].Value
+	switch bad.Keyword {
+	case "let", "species", "body", "stage":
+		if len(toks) > 1 && toks[1].Type == tokIdent {
+			bad.Name = c.tokenIdent(toks[1])
+		}
+	}
+}
+
+// tokenIdent makes an identifier from a token of the text being converted.
+func (c *converter) tokenIdent(t lexer.Token) *Ident {
+	start := c.pos(t.Pos)
+	end := start
+	end.Offset += len(t.Value)
+	end.Column += utf8.RuneCountInString(t.Value)
+	return &Ident{Range: diag.Range{File: c.file, Start: start, End: end}, Name: t.Value}
+}
+
 // syntaxError converts a participle error into a diagnostic in the
-// user's terms.
+// user's terms. text is the statement (or file) that failed to parse.
 func (c *converter) syntaxError(err error, text string) *diag.Diagnostic {
 	var ute *participle.UnexpectedTokenError
-	var lerr *lexer.Error
 	var perr participle.Error
 	d := &diag.Diagnostic{Severity: diag.Error, Code: "syntax"}
+	toks := tokens(text)
+	// at sets the subject to the token value at p; an empty value marks a
+	// point (the end of the statement).
+	at := func(p lexer.Position, value string) {
+		start := c.pos(p)
+		end := start
+		end.Offset += len(value)
+		end.Column += utf8.RuneCountInString(value)
+		if end.Offset > len(c.src) {
+			end = start
+		}
+		d.Subject = diag.Range{File: c.file, Start: start, End: end}
+	}
+	// Unbalanced brackets are the likeliest cause of any syntax error in
+	// the statement, and participle's view of them is confusing.
+	if t, closes, ok := bracketProblem(toks); ok {
+		at(t.Pos, t.Value)
+		if closes {
+			d.Message = fmt.Sprintf("this %q closes nothing", t.Value)
+		} else {
+			d.Message = fmt.Sprintf("this %q is never closed; add %q", t.Value, closer[t.Value])
+			if t.Value == "{" {
+				d.Message += " after the last line of the block"
+			}
+		}
+		return d
+	}
 	switch {
 	case errors.As(err, &ute):
 		tok := ute.Unexpected
-		start := c.pos(tok.Pos)
-		end := start
-		end.Offset += len(tok.Value)
-		end.Column += utf8.RuneCountInString(tok.Value)
-		d.Subject = diag.Range{File: c.file, Start: start, End: end}
-		d.Message = "unexpected " + describeToken(tok)
-		if ute.Expect != "" {
-			d.Message += "; expected " + friendlyExpect(ute.Expect)
+		expect := expectedWords(ute.Message())
+		if tok.EOF() {
+			p := tok.Pos
+			if len(toks) > 0 {
+				last := toks[len(toks)-1]
+				p = last.Pos
+				p.Advance(last.Value)
+			}
+			at(p, "")
+			d.Message = "the statement ends too early"
+			if expect != "" {
+				d.Message += "; expected " + expect
+			}
+			return d
 		}
-		d.Notes = hintFor(tok)
-	case errors.As(err, &lerr):
-		start := c.pos(lerr.Pos)
-		end := start
-		end.Offset++
-		end.Column++
-		d.Subject = diag.Range{File: c.file, Start: start, End: end}
-		d.Message = "cannot read this character: " + lerr.Msg
+		at(tok.Pos, tok.Value)
+		switch {
+		case tok.Type == tokKeyword && strings.HasPrefix(expect, "a name"):
+			d.Message = fmt.Sprintf("%q is a keyword and cannot be used as a name", tok.Value)
+		case tok.Type == tokNumber && strings.HasPrefix(expect, "a name"):
+			d.Message = fmt.Sprintf("a name must start with a letter or \"_\", not %q", tok.Value)
+		case tok.Value == "%":
+			d.Message = "a unit is written in brackets right after its number, e.g. 5 [%]"
+		case tok.Type == tokStray:
+			d.Message = strayMessage(tok.Value)
+		default:
+			d.Message = "unexpected " + describeToken(tok)
+			if expect != "" {
+				d.Message += "; expected " + expect
+			}
+		}
 	case errors.As(err, &perr):
-		start := c.pos(perr.Position())
-		end := start
-		end.Offset++
-		end.Column++
-		d.Subject = diag.Range{File: c.file, Start: start, End: end}
+		at(perr.Position(), "")
 		d.Message = perr.Message()
 	default:
 		d.Subject = diag.Range{File: c.file, Start: c.pos(lexer.Position{Line: 1, Column: 1})}
+		d.Subject.End = d.Subject.Start
 		d.Message = err.Error()
 	}
 	return d
 }
 
-func describeToken(tok lexer.Token) string {
-	if tok.EOF() {
-		return "end of input"
+var closer = map[string]string{"(": ")", "{": "}"}
+
+// bracketProblem finds the first unbalanced bracket of a statement: a
+// closing one that closes nothing (closes is true), or an opening one
+// that is never closed, either because a different closer comes first or
+// because the text ends.
+func bracketProblem(toks []lexer.Token) (tok lexer.Token, closes bool, ok bool) {
+	var stack []lexer.Token
+	for _, t := range toks {
+		if t.Type != tokOp {
+			continue
+		}
+		switch t.Value {
+		case "(", "{":
+			stack = append(stack, t)
+		case ")", "}":
+			if len(stack) == 0 {
+				return t, true, true
+			}
+			top := stack[len(stack)-1]
+			if closer[top.Value] != t.Value {
+				return top, false, true
+			}
+			stack = stack[:len(stack)-1]
+		}
 	}
-	v := tok.Value
-	if len(v) > 40 {
-		v = v[:37] + "..."
+	if len(stack) > 0 {
+		return stack[len(stack)-1], false, true
 	}
+	return lexer.Token{}, false, false
+}
+
+// strayMessage explains a character that is not part of the language.
+func strayMessage(v string) string {
+	r, _ := utf8.DecodeRuneInString(v)
 	switch {
-	case strings.HasPrefix(v, "["):
+	case strings.ContainsRune("²³¹⁰⁴⁵⁶⁷⁸⁹⁻", r):
+		return fmt.Sprintf("the character %q is not part of the language; write powers with ^, and units in brackets such as [m^2]", v)
+	case r == '!':
+		return `the character "!" is not part of the language; write not, or != for "not equal"`
+	case r == '\u00a0' || unicode.IsSpace(r):
+		return fmt.Sprintf("the character U+%04X is a space that is not allowed here; use an ordinary space", r)
+	case r == ']':
+		return `this "]" closes no unit bracket`
+	case unicode.IsPrint(r):
+		return fmt.Sprintf("the character %q is not part of the language", v)
+	}
+	return fmt.Sprintf("the character U+%04X is not part of the language", r)
+}
+
+// expectedWords turns the expectation in participle's message, such as
+// `(expected "=" GExpr)`, into words: what should come next.
+func expectedWords(msg string) string {
+	i := strings.Index(msg, "(expected ")
+	if i < 0 {
+		return ""
+	}
+	s := strings.TrimSuffix(msg[i+len("(expected "):], ")")
+	s = strings.TrimLeft(s, "( ")
+	switch {
+	case strings.HasPrefix(s, `"`):
+		j := strings.Index(s[1:], `"`)
+		if j < 0 {
+			return ""
+		}
+		return s[:j+2]
+	case strings.HasPrefix(s, "<"):
+		j := strings.IndexByte(s, '>')
+		if j < 0 {
+			return ""
+		}
+		return nodeWords[strings.ToLower(s[1:j])]
+	}
+	j := 0
+	for j < len(s) && (s[j] == '_' || s[j] >= 'a' && s[j] <= 'z' || s[j] >= 'A' && s[j] <= 'Z' || s[j] >= '0' && s[j] <= '9') {
+		j++
+	}
+	return nodeWords[strings.ToLower(s[:j])]
+}
+
+// nodeWords names the grammar's parts in the user's terms.
+var nodeWords = map[string]string{
+	"gexpr": "a value", "gand": "a value", "gnot": "a value", "gcmp": "a value", "gadd": "a value",
+	"gmul": "a value", "gunary": "a value", "gpow": "a value", "gprimary": "a value", "gnumber": "a number",
+	"gident": "a name", "ident": "a name", "gpath": "a body (or body.layer, body.side)",
+	"gcondition": "a condition such as fixed(...), film(...) or symmetry",
+	"gcall":      "a shape such as sphere(radius = ...)", "gstring": "a quoted string", "string": "a quoted string",
+	"gprop": "a property (name = value)", "glayer": "a layer (layer NAME to POSITION)",
+	"gstmt": "a statement", "garg": "an argument", "gsweepvar": "the name of a quantity",
+	"gfitparam": "the name of a quantity", "gfitcolumn": `a column (result = "column name")`,
+	"gunit": "a unit in brackets", "number": "a number",
+}
+
+// describeToken names a token for a message: unit [mm], number 2, "x".
+func describeToken(tok lexer.Token) string {
+	v := tok.Value
+	if utf8.RuneCountInString(v) > 40 {
+		v = string([]rune(v)[:37]) + "..."
+	}
+	switch tok.Type {
+	case tokUnit:
 		return "unit " + v
-	case strings.HasPrefix(v, "\""):
+	case tokString:
 		return "string " + v
-	case v != "" && (v[0] >= '0' && v[0] <= '9' || v[0] == '.'):
+	case tokNumber:
 		return "number " + v
-	case IsReserved(v):
+	case tokKeyword:
 		return "keyword \"" + v + "\""
+	case tokIdent:
+		return "name \"" + v + "\""
 	}
 	return fmt.Sprintf("%q", v)
-}
-
-// friendlyExpect shortens participle's description of what it wanted.
-func friendlyExpect(s string) string {
-	r := strings.NewReplacer("<ident>", "a name", "<number>", "a number", "<string>", "a string",
-		"<unit>", "a unit in brackets", "<keyword>", "a keyword")
-	return r.Replace(s)
-}
-
-// hintFor adds a note for mistakes people commonly make.
-func hintFor(tok lexer.Token) []string {
-	switch {
-	case tok.Value == "%":
-		return []string{"units are written in brackets after the number, e.g. 5 [%]"}
-	case tok.Value == "=":
-		return nil
-	}
-	return nil
 }
 
 // chunk is one top-level statement's text for error recovery.
@@ -220,86 +361,41 @@ func firstWord(line string) (string, bool) {
 // braceDelta counts '{' minus '}' outside comments, strings and units.
 func braceDelta(line string) int {
 	d := 0
-	inStr, inUnit := false, false
-	for i := 0; i < len(line); i++ {
-		ch := line[i]
-		switch {
-		case inStr:
-			if ch == '\\' {
-				i++
-			} else if ch == '"' {
-				inStr = false
+	for i := 0; i < len(line); {
+		typ, end := scanToken(line, i)
+		if typ == tokOp {
+			switch line[i] {
+			case '{':
+				d++
+			case '}':
+				d--
 			}
-		case inUnit:
-			if ch == ']' {
-				inUnit = false
-			}
-		case ch == '#':
-			return d
-		case ch == '"':
-			inStr = true
-		case ch == '[':
-			inUnit = true
-		case ch == '{':
-			d++
-		case ch == '}':
-			d--
 		}
+		i = end
 	}
 	return d
 }
 
-// collectComments finds every comment with its position, skipping '#'
-// inside strings.
+// collectComments finds every comment with its position, using the
+// lexer so that a '#' inside a string is not taken for one.
 func collectComments(file, src string) []*Comment {
 	var out []*Comment
-	line, col := 1, 1
-	inStr, inUnit := false, false
-	for i := 0; i < len(src); {
-		r, size := utf8.DecodeRuneInString(src[i:])
-		switch {
-		case inStr:
-			if r == '\\' && i+1 < len(src) && src[i+1] != '\n' {
-				i += size
-				col++
-				r, size = utf8.DecodeRuneInString(src[i:])
-			} else if r == '"' || r == '\n' {
-				inStr = false
-			}
-		case inUnit:
-			if r == ']' || r == '\n' {
-				inUnit = false
-			}
-		case r == '"':
-			inStr = true
-		case r == '[':
-			inUnit = true
-		case r == '#':
-			end := strings.IndexByte(src[i:], '\n')
-			if end < 0 {
-				end = len(src)
-			} else {
-				end += i
-			}
-			text := strings.TrimRight(src[i:end], " \t\r")
-			out = append(out, &Comment{
-				Range: diag.Range{File: file, Start: diag.Pos{Line: line, Column: col, Offset: i},
-					End: diag.Pos{Line: line, Column: col + utf8.RuneCountInString(text), Offset: i + len(text)}},
-				Text: text,
-			})
-			col += utf8.RuneCountInString(src[i:end])
-			i = end
+	s := &scanner{src: src, pos: lexer.Position{Line: 1, Column: 1}}
+	for {
+		t, _ := s.Next()
+		if t.EOF() {
+			return out
+		}
+		if t.Type != tokComment {
 			continue
 		}
-		if r == '\n' {
-			line++
-			col = 1
-		} else {
-			col++
-		}
-		i += size
+		text := strings.TrimRight(t.Value, " \t\r")
+		start := diag.Pos{Line: t.Pos.Line, Column: t.Pos.Column, Offset: t.Pos.Offset}
+		end := start
+		end.Offset += len(text)
+		end.Column += utf8.RuneCountInString(text)
+		out = append(out, &Comment{Range: diag.Range{File: file, Start: start, End: end}, Text: text})
 	}
-	return out
 }
 
 // rangeAt builds a range from byte offsets in src.

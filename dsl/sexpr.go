@@ -32,6 +32,8 @@ func sexpr(b *strings.Builder, n Node) {
 				b.WriteByte(' ')
 			}
 			switch v := p.(type) {
+			case nil:
+				b.WriteString("_")
 			case Node:
 				if isNil(v) {
 					b.WriteString("_")
@@ -74,7 +76,7 @@ func sexpr(b *strings.Builder, n Node) {
 	switch n := n.(type) {
 	case *Number:
 		if n.Unit != nil {
-			w("num", n.Text, "["+strings.TrimSpace(n.Unit.Text)+"]")
+			w("num", n.Text, "["+normalizeUnit(n.Unit.Text)+"]")
 		} else {
 			w("num", n.Text)
 		}
