@@ -85,7 +85,10 @@ type checker struct {
 	included  map[string]bool
 	versionAt *decl
 	failed    map[string]bool // boundaries whose condition had an error
-	runFailed bool
+	// massSpecies is the species whose molar mass converts mass
+	// concentrations in the statement being checked; -1 for none.
+	massSpecies int
+	runFailed   bool
 	// broken holds the names declared by statements that could not be
 	// parsed; uses of them are not reported again.
 	broken map[string]bool
@@ -128,7 +131,7 @@ func Check(f *dsl.File, opts *Options) (m *Model, diags diag.List) {
 	if opts == nil {
 		opts = &Options{}
 	}
-	c := &checker{
+	c := &checker{massSpecies: -1,
 		opts: opts, sources: map[string]string{},
 		lets: map[string]*decl{}, letState: map[string]int{}, quantity: map[string]*Quantity{},
 		species: map[string]*Species{}, specDecl: map[string]*decl{},
@@ -795,7 +798,8 @@ func (c *checker) opRange(e *dsl.Binary) diag.Range {
 
 // funcs lists the mathematical functions and their argument counts
 // (-1: two or more).
-var funcs = map[string]int{"exp": 1, "log": 1, "ln": 1, "log10": 1, "sqrt": 1, "abs": 1, "pow": 2, "min": -1, "max": -1}
+var funcs = map[string]int{"exp": 1, "log": 1, "ln": 1, "log10": 1, "sqrt": 1, "abs": 1, "pow": 2, "min": -1, "max": -1,
+	"sinh": 1, "cosh": 1, "tanh": 1, "coth": 1}
 
 // ResultFuncs lists the result functions a show, expect or fit may name,
 // with a one-line description.
@@ -854,7 +858,7 @@ func (c *checker) call(e *dsl.Call, ctx *context) (*Expr, units.Dim, bool) {
 	}
 	out := &Expr{op: opCall, fn: name, args: args}
 	switch name {
-	case "exp", "log", "ln", "log10":
+	case "exp", "log", "ln", "log10", "sinh", "cosh", "tanh", "coth":
 		if !dims[0].IsZero() {
 			c.diags.Add("dimension", e.Args[0].Range, "%s needs a dimensionless argument, not %s; divide by a reference value", name, dims[0].Describe())
 			return nil, units.Dim{}, false
@@ -906,8 +910,21 @@ func (c *checker) want(e dsl.Expr, ctx *context, dim units.Dim, role string) (*E
 	if !ok {
 		return nil, false
 	}
+	if d == units.MassConcentration && dim == units.Concentration && c.massSpecies >= 0 {
+		// A mass concentration (mg/L) converts to a molar one with the
+		// species' molar mass.
+		sp := c.m.Species[c.massSpecies]
+		if sp.MolarMass > 0 {
+			return fold(&Expr{op: opDiv, args: []*Expr{x, Const(sp.MolarMass)}}), true
+		}
+		c.diags.Add("dimension", e.Span(), "%s is a mass concentration; give species %s a molar_mass to convert it, or write a molar concentration", role, sp.Name)
+		return nil, false
+	}
 	if d != dim {
-		c.diags.Add("dimension", e.Span(), "%s must be %s, but this is %s", role, dim.Describe(), d.Describe())
+		d := c.diags.Add("dimension", e.Span(), "%s must be %s, but this is %s", role, dim.Describe(), d.Describe())
+		if dim == units.Concentration {
+			d.Notes = append(d.Notes, "a mass concentration (e.g. mg/L) is accepted where the statement names one species that has a molar_mass")
+		}
 		return nil, false
 	}
 	return x, true

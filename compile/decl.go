@@ -671,7 +671,9 @@ func (c *checker) checkBoundaries() {
 			}
 			targets = []int{sp.Index}
 		}
+		c.setMassSpecies(targets)
 		cond, ok := c.condition(b, place, s.Condition)
+		c.massSpecies = -1
 		if !ok {
 			c.failed[b.Name+"."+place] = true
 			continue
@@ -725,7 +727,9 @@ func (c *checker) checkInitials() {
 			continue
 		}
 		ctx := &context{what: "a starting value", pos: true, axial: b.Shape == ShortCylinder}
+		c.massSpecies = sp.Index
 		e, ok := c.want(s.Value, ctx, units.Concentration, "a starting value")
+		c.massSpecies = -1
 		if !ok {
 			for _, r := range regions {
 				c.failed["initially:"+r.Name+":"+sp.Name] = true
@@ -782,7 +786,9 @@ func (c *checker) checkStages() {
 				}
 				targets = []int{sp.Index}
 			}
+			c.setMassSpecies(targets)
 			cond, ok := c.condition(b, place, bs.Condition)
+			c.massSpecies = -1
 			if !ok {
 				continue
 			}
@@ -961,7 +967,7 @@ func (c *checker) checkRun() {
 	c.runFailed = false
 }
 
-var settingKeys = []string{"rtol", "atol", "cells", "method", "cluster"}
+var settingKeys = []string{"rtol", "atol", "cells", "method", "cluster", "extrapolate", "estimate"}
 
 // Methods lists the time-integration methods a settings block may name.
 var Methods = []string{"bdf"}
@@ -1014,6 +1020,25 @@ func (c *checker) checkSettings() {
 				st.Cluster = v
 			}
 		}
+		for _, key := range []string{"extrapolate", "estimate"} {
+			p, ok := props[key]
+			if !ok {
+				continue
+			}
+			id, isIdent := p.Value.(*dsl.Ident)
+			if !isIdent || (id.Name != "on" && id.Name != "off") {
+				d := c.diags.Add("setting", p.Value.Span(), "%s takes on or off", key)
+				if isIdent {
+					d.Suggestion = Closest(id.Name, []string{"on", "off"})
+				}
+				continue
+			}
+			if key == "extrapolate" {
+				st.Extrapolate = id.Name == "on"
+			} else {
+				st.Estimate = id.Name == "on"
+			}
+		}
 		if p, ok := props["method"]; ok {
 			id, isIdent := p.Value.(*dsl.Ident)
 			if !isIdent || !contains(Methods, id.Name) {
@@ -1042,3 +1067,13 @@ func fmtTime(s float64) string {
 }
 
 var _ = diag.Range{}
+
+// setMassSpecies names the species whose molar mass converts a mass
+// concentration (mg/L) written in the statement being checked: the one
+// target species, or none when the statement covers several.
+func (c *checker) setMassSpecies(targets []int) {
+	c.massSpecies = -1
+	if len(targets) == 1 {
+		c.massSpecies = targets[0]
+	}
+}

@@ -141,6 +141,14 @@ func callFn(name string, args []*Expr, env *Env) float64 {
 		return math.Log(x)
 	case "log10":
 		return math.Log10(x)
+	case "sinh":
+		return math.Sinh(x)
+	case "cosh":
+		return math.Cosh(x)
+	case "tanh":
+		return math.Tanh(x)
+	case "coth":
+		return 1 / math.Tanh(x)
 	case "sqrt":
 		return math.Sqrt(x)
 	case "abs":

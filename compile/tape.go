@@ -162,6 +162,20 @@ func (t *Tape) call(fn string, a []int, g []float64) float64 {
 	case "log10":
 		axpy(g, 1/(x*math.Ln10), gx)
 		return math.Log10(x)
+	case "sinh":
+		axpy(g, math.Cosh(x), gx)
+		return math.Sinh(x)
+	case "cosh":
+		axpy(g, math.Sinh(x), gx)
+		return math.Cosh(x)
+	case "tanh":
+		v := math.Tanh(x)
+		axpy(g, 1-v*v, gx)
+		return v
+	case "coth":
+		v := 1 / math.Tanh(x)
+		axpy(g, 1-v*v, gx)
+		return v
 	case "sqrt":
 		v := math.Sqrt(x)
 		if v > 0 {

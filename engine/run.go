@@ -23,6 +23,9 @@ const Version = "0.1.0"
 type Options struct {
 	// Settings override the model's solver settings where non-zero.
 	Settings compile.Settings
+	// Sources, when not nil, receives the text of every file read (the
+	// model and its includes), for rendering diagnostics.
+	Sources diag.Sources
 	// Recheck rebuilds the model with changed quantities, for sweeps;
 	// RunSource sets it. Without it a sweep is refused.
 	Recheck Recheck
@@ -74,7 +77,11 @@ func RunFile(ctx context.Context, path string, opts *Options) (*Result, diag.Lis
 // RunSource is RunFile on text already read.
 func RunSource(ctx context.Context, name, src string, opts *Options) (*Result, diag.List, error) {
 	f, diags := dsl.Parse(name, src)
-	m, more := compile.Check(f, nil)
+	var copts *compile.Options
+	if opts != nil && opts.Sources != nil {
+		copts = &compile.Options{Sources: opts.Sources}
+	}
+	m, more := compile.Check(f, copts)
 	diags.Append(more)
 	diags.Sort()
 	if diags.HasErrors() {

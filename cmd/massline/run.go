@@ -43,9 +43,10 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
-	res, diags, err := engine.RunSource(ctx, path, string(src), nil)
+	sources := diag.Sources{path: string(src)}
+	res, diags, err := engine.RunSource(ctx, path, string(src), &engine.Options{Sources: sources})
 	if len(diags) > 0 {
-		fmt.Fprint(stderr, diag.Text(diags, diag.Sources{path: string(src)}))
+		fmt.Fprint(stderr, diag.Text(diags, sources))
 	}
 	if err != nil {
 		var ee *engine.Error
@@ -183,7 +184,7 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 			continue
 		}
 		sources[path] = string(src)
-		_, diags := engine.CheckSource(path, string(src), nil)
+		_, diags := engine.CheckSource(path, string(src), &compile.Options{Sources: sources})
 		if diags.HasErrors() {
 			failed = true
 		}

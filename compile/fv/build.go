@@ -3,6 +3,7 @@ package fv
 import (
 	"fmt"
 	"math"
+	"sync/atomic"
 
 	"github.com/massline/massline/solvers"
 )
@@ -20,8 +21,12 @@ const minAutoCells = 6
 // Discretization is the method-of-lines system of a Spec. The unknowns are
 // the cell averages, species interleaved (index = cell·NSpecies + species),
 // followed by one bath value for each species with a Bath outer condition,
-// in species order. Its methods are safe for concurrent use; the functions
-// of one Problem are not.
+// in species order. The cell unknown is the concentration, except for a
+// species with a nonlinear store (Layer.Store) in that cell's layer, where
+// it is the amount held per unit volume, q (see the package
+// documentation; CellValues returns the concentrations in every case). Its
+// methods are safe for concurrent use (given store and diffusivity
+// functions that are); the functions of one Problem are not.
 type Discretization struct {
 	// Grid is the cell layout.
 	Grid Grid
@@ -43,6 +48,44 @@ type Discretization struct {
 	extra     func(species int, t, r float64) float64
 	kin       func(t, r float64, layer int, c, rate, dRate []float64)
 	y0        []float64
+
+	// Nonlinear stores and concentration-dependent diffusivities (see
+	// nonlinear.go).
+	store     []StoreFunc // per cell unknown; nil where the store is linear
+	slope     []float64   // per cell unknown: representative dq/dc (cold starts)
+	hasStore  bool
+	varD      bool           // some face has a variable diffusivity
+	nonlinear bool           // store, variable D or Kinetics: QuadJac is provided
+	fvar      []uint8        // per face×species: faceStatic, faceVar, faceContact
+	fwg       []float64      // per face×species: 4 weights −A·ω of a variable same-layer face
+	theta     []float64      // per face: weight of cell f−1 when interpolating to the face
+	contact   []*contactFace // per face: the geometry of a contact between layers, or nil
+	rowW      []float64      // per unknown: W in dy = (net inflow)/W
+	layers    []layerData    // per layer, for EquilibriumContent and variable D
+	evalErr   atomic.Pointer[error]
+}
+
+// Face kinds for the flux of one species.
+const (
+	faceStatic  uint8 = iota // weights in fw (constant diffusivity)
+	faceVar                  // same layer, variable diffusivity
+	faceContact              // contact between layers, a variable diffusivity on either side
+)
+
+// layerData is what the discretisation keeps of a layer.
+type layerData struct {
+	d         []float64
+	df        []DiffusivityFunc
+	store     []StoreFunc
+	cap       []float64 // Capacity or representative slope (1 by default)
+	partition []float64 // contact partition at the inner face, 1 by default
+}
+
+// contactFace is the geometry of a contact: the one-sided closures of the
+// two layers and, per species, the partition and resistance.
+type contactFace struct {
+	left, right bnd
+	kp, rc      []float64
 }
 
 // bnd is the precomputed closure of one face for one species.
@@ -70,10 +113,58 @@ type bnd struct {
 	kb     int     // bath unknown, −1 if none
 	area   float64
 	vb     float64 // bath volume
+	// With a variable diffusivity: the function, the face position and
+	// the first unknown of the nearest cell (whose values D is taken at).
+	df   DiffusivityFunc
+	rb   float64
+	base int
 }
 
-// flux returns the inward flux density J (mol/(m²·s)) through the face.
-func (b *bnd) flux(t float64, y []float64) float64 {
+// variable reports whether the flux through the face depends on a
+// variable diffusivity (Fixed, Film and Bath faces with a DiffusivityFunc).
+func (b *bnd) variable() bool {
+	return b.df != nil && (b.kind == Fixed || b.kind == Film || b.kind == Bath)
+}
+
+// eff returns the coefficient e of J = e·(σ K c_ext + a1 c1 + a2 c2) for
+// the face diffusivity D: D, or H·D/(H + D·σ) through a film.
+func (b *bnd) eff(D float64) float64 {
+	if D == b.d {
+		return b.e
+	}
+	if b.h > 0 && (b.kind == Film || b.kind == Bath) {
+		return b.h * D / (b.h + D*b.sigma)
+	}
+	return D
+}
+
+// effSlope returns de/dD.
+func (b *bnd) effSlope(D float64) float64 {
+	if b.h > 0 && (b.kind == Film || b.kind == Bath) {
+		q := b.h / (b.h + D*b.sigma)
+		return q * q
+	}
+	return 1
+}
+
+// drive returns P with J = e·P for Fixed, Film and Bath faces.
+func (b *bnd) drive(t float64, y []float64) float64 {
+	if b.kind == Bath {
+		return b.sigma*b.kp*y[b.kb] + b.a1*y[b.k1] + b.a2*y[b.k2]
+	}
+	c := 0.0
+	if b.value != nil {
+		c = b.value(t)
+	}
+	return b.sigma*b.kp*c + b.a1*y[b.k1] + b.a2*y[b.k2]
+}
+
+// flux returns the inward flux density J (mol/(m²·s)) through the face,
+// y holding concentrations, with the diffusivity of the layer.
+func (b *bnd) flux(t float64, y []float64) float64 { return b.fluxD(t, y, b.d) }
+
+// fluxD returns the inward flux density with the face diffusivity D.
+func (b *bnd) fluxD(t float64, y []float64, D float64) float64 {
 	switch b.kind {
 	case Flux:
 		if b.value == nil {
@@ -85,15 +176,16 @@ func (b *bnd) flux(t float64, y []float64) float64 {
 		if b.value != nil {
 			c = b.value(t)
 		}
-		return b.e * (b.sigma*b.kp*c + b.a1*y[b.k1] + b.a2*y[b.k2])
+		return b.eff(D) * (b.sigma*b.kp*c + b.a1*y[b.k1] + b.a2*y[b.k2])
 	case Bath:
-		return b.e * (b.sigma*b.kp*y[b.kb] + b.a1*y[b.k1] + b.a2*y[b.k2])
+		return b.eff(D) * (b.sigma*b.kp*y[b.kb] + b.a1*y[b.k1] + b.a2*y[b.k2])
 	}
 	return 0
 }
 
-// surface returns the value just inside the face.
-func (b *bnd) surface(t float64, y []float64) float64 {
+// surface returns the value just inside the face, y holding
+// concentrations, with the face diffusivity D.
+func (b *bnd) surface(t float64, y []float64, D float64) float64 {
 	switch b.kind {
 	case Fixed:
 		if b.value == nil {
@@ -105,14 +197,14 @@ func (b *bnd) surface(t float64, y []float64) float64 {
 		if b.value != nil {
 			c = b.value(t)
 		}
-		return b.kp*c - b.flux(t, y)/b.h
+		return b.kp*c - b.fluxD(t, y, D)/b.h
 	case Bath:
 		if b.h > 0 {
-			return b.kp*y[b.kb] - b.flux(t, y)/b.h
+			return b.kp*y[b.kb] - b.fluxD(t, y, D)/b.h
 		}
 		return b.kp * y[b.kb]
 	}
-	g := b.flux(t, y) / b.d
+	g := b.fluxD(t, y, D) / D
 	return b.b1*y[b.k1] + b.b2*y[b.k2] + b.b3*g
 }
 
@@ -267,13 +359,47 @@ func Build(spec *Spec) (*Discretization, error) {
 			d.rates[l] = flat
 		}
 	}
+	d.layers = make([]layerData, nl)
+	for l := range spec.Layers {
+		ly := &spec.Layers[l]
+		ld := layerData{d: ly.D, cap: make([]float64, ns), partition: make([]float64, ns)}
+		if ly.Diffusivity != nil {
+			ld.df = ly.Diffusivity
+		} else {
+			ld.df = make([]DiffusivityFunc, ns)
+		}
+		if ly.Store != nil {
+			ld.store = ly.Store
+		} else {
+			ld.store = make([]StoreFunc, ns)
+		}
+		for s := 0; s < ns; s++ {
+			ld.cap[s], ld.partition[s] = 1, 1
+			if ly.Capacity != nil {
+				ld.cap[s] = ly.Capacity[s]
+			}
+			if ly.Partition != nil && ly.Partition[s] != 0 {
+				ld.partition[s] = ly.Partition[s]
+			}
+			if ld.store[s] != nil {
+				d.hasStore = true
+			}
+		}
+		d.layers[l] = ld
+	}
+	d.store = make([]StoreFunc, nc*ns)
+	d.slope = make([]float64, nc*ns)
 	for i := 0; i < nc; i++ {
 		ly := &spec.Layers[g.Layer[i]]
+		ld := &d.layers[g.Layer[i]]
 		for s := 0; s < ns; s++ {
 			k := i*ns + s
-			c := 1.0
-			if ly.Capacity != nil {
-				c = ly.Capacity[s]
+			c := ld.cap[s]
+			d.slope[k] = c
+			if st := ld.store[s]; st != nil {
+				// The unknown is the amount held per unit volume.
+				d.store[k] = st
+				c = 1
 			}
 			d.cap[k] = c
 			d.capV[k] = c * g.Volumes[i]
@@ -283,15 +409,34 @@ func Build(spec *Spec) (*Discretization, error) {
 		}
 	}
 	// Interior faces: G_f = Σ_j fw[4(f·ns+s)+j] · c_{f−2+j} is the amount
-	// crossing face f (between cells f−1 and f) per unit time in +r.
+	// crossing face f (between cells f−1 and f) per unit time in +r, when
+	// the diffusivities are constant; otherwise G_f is formed at each
+	// evaluation (nonlinear.go) and fw stays zero.
 	d.fw = make([]float64, 4*(nc+1)*ns)
+	d.fvar = make([]uint8, (nc+1)*ns)
+	d.contact = make([]*contactFace, nc+1)
+	d.theta = make([]float64, nc+1)
 	for f := 1; f < nc; f++ {
 		L, R := g.Layer[f-1], g.Layer[f]
 		rf := g.Faces[f]
 		if L == R {
 			om := faceGradient(geo, g.Faces, g.Layer, f)
+			xl, xr := g.Centres[f-1], g.Centres[f]
+			d.theta[f] = (xr - rf) / (xr - xl)
 			for s := 0; s < ns; s++ {
 				w := d.fw[4*(f*ns+s):]
+				if d.layers[L].df[s] != nil {
+					d.fvar[f*ns+s] = faceVar
+					d.varD = true
+					if d.fwg == nil {
+						d.fwg = make([]float64, 4*(nc+1)*ns)
+					}
+					w = d.fwg[4*(f*ns+s):]
+					for j := range 4 {
+						w[j] = -g.Areas[f] * om[j]
+					}
+					continue
+				}
 				D := spec.Layers[L].D[s]
 				for j := range 4 {
 					w[j] = -g.Areas[f] * D * om[j]
@@ -303,6 +448,8 @@ func Build(spec *Spec) (*Discretization, error) {
 		// sides joined by continuity of flux and the contact condition.
 		left := makeBnd(geo, &Boundary{Kind: Fixed}, 1, rf, g.Faces[f-1], g.Faces[f-2], 0, 0, 0)
 		right := makeBnd(geo, &Boundary{Kind: Fixed}, 1, rf, g.Faces[f+1], g.Faces[f+2], 0, 0, 0)
+		cf := &contactFace{left: left, right: right, kp: make([]float64, ns), rc: make([]float64, ns)}
+		d.contact[f] = cf
 		for s := 0; s < ns; s++ {
 			DL, DR := spec.Layers[L].D[s], spec.Layers[R].D[s]
 			kp, rc := 1.0, 0.0
@@ -311,6 +458,12 @@ func Build(spec *Spec) (*Discretization, error) {
 			}
 			if r := spec.Layers[R].Resistance; r != nil {
 				rc = r[s]
+			}
+			cf.kp[s], cf.rc[s] = kp, rc
+			if d.layers[L].df[s] != nil || d.layers[R].df[s] != nil {
+				d.fvar[f*ns+s] = faceContact
+				d.varD = true
+				continue
 			}
 			den := 1/(DR*right.sigma) + kp/(DL*left.sigma) + rc
 			c := g.Areas[f] / den
@@ -342,20 +495,47 @@ func Build(spec *Spec) (*Discretization, error) {
 		d.outer[s] = makeBnd(geo, &spec.OuterBC[s], lastLayer.D[s], g.Faces[nc], g.Faces[nc-1], g.Faces[nc-2],
 			(nc-1)*ns+s, (nc-2)*ns+s, g.Areas[nc])
 		d.outer[s].kb = d.bathIdx[s]
+		d.inner[s].df, d.inner[s].rb, d.inner[s].base = d.layers[0].df[s], g.Faces[0], 0
+		d.outer[s].df, d.outer[s].rb, d.outer[s].base = d.layers[nl-1].df[s], g.Faces[nc], (nc-1)*ns
+		if d.inner[s].variable() || d.outer[s].variable() {
+			d.varD = true
+		}
 	}
-	// Initial state.
+	d.rowW = make([]float64, d.n)
+	copy(d.rowW, d.capV)
+	for s := 0; s < ns; s++ {
+		if k := d.bathIdx[s]; k >= 0 {
+			d.rowW[k] = d.outer[s].vb
+		}
+	}
+	d.nonlinear = d.hasStore || d.varD || d.kin != nil
+	// Initial state: cell averages of the starting value, or of the
+	// amount held where the store is nonlinear.
 	d.y0 = make([]float64, d.n)
-	if spec.Init != nil {
+	if spec.Init != nil || d.hasStore {
 		for i := 0; i < nc; i++ {
 			for s := 0; s < ns; s++ {
+				k := i*ns + s
 				v := 0.0
 				for q := range 3 {
-					v += gw[3*i+q] * spec.Init(s, gr[3*i+q])
+					c := 0.0
+					if spec.Init != nil {
+						c = spec.Init(s, gr[3*i+q])
+					}
+					if st := d.store[k]; st != nil && finite(c) {
+						sq, slope := st(c)
+						if !finite(sq) || !(slope > 0) || math.IsInf(slope, 0) {
+							return nil, fmt.Errorf("fv: layer %d, species %d: the store at the starting value c = %g is %g with slope %g; it must be finite and increase with c",
+								g.Layer[i], s, c, sq, slope)
+						}
+						c = sq
+					}
+					v += gw[3*i+q] * c
 				}
 				if !finite(v) {
 					return nil, fmt.Errorf("fv: Init gives a non-finite value for species %d near r = %g", s, g.Centres[i])
 				}
-				d.y0[i*ns+s] = v
+				d.y0[k] = v
 			}
 		}
 	}
@@ -428,7 +608,7 @@ func (d *Discretization) staticJacobian() []float64 {
 	}
 	for s := 0; s < ns; s++ {
 		for _, b := range []*bnd{&d.inner[s], &d.outer[s]} {
-			if b.kind != Fixed && b.kind != Film && b.kind != Bath {
+			if b.kind != Fixed && b.kind != Film && b.kind != Bath || b.variable() {
 				continue
 			}
 			c := b.area * b.e / d.capV[b.k1]

@@ -6,7 +6,8 @@ import (
 )
 
 // Y0 returns a new copy of the initial state: cell averages of Spec.Init
-// and the bath starting values.
+// (of the amount held, q(Init), where the store is nonlinear) and the bath
+// starting values.
 func (d *Discretization) Y0() []float64 {
 	return append([]float64(nil), d.y0...)
 }
@@ -22,7 +23,8 @@ func (d *Discretization) check(y []float64, s int) error {
 }
 
 // Content returns the amount of species s held in the body,
-// Σ V_i·Capacity_i·c_i: per body for a sphere, per unit length for a
+// Σ V_i·Capacity_i·c_i, or Σ V_i·q_i where the store is nonlinear (q_i
+// being the unknown): per body for a sphere, per unit length for a
 // cylinder, per unit face area for a slab (the half-slab from Inner to the
 // outer face).
 func (d *Discretization) Content(y []float64, s int) (float64, error) {
@@ -37,18 +39,52 @@ func (d *Discretization) Content(y []float64, s int) (float64, error) {
 	return sum, nil
 }
 
-// Mean returns the volume average of the concentration of species s,
-// Σ V_i c_i / Σ V_i.
-func (d *Discretization) Mean(y []float64, s int) (float64, error) {
+// CellValues returns the concentration of species s in every cell (the
+// cell averages; where the store is nonlinear, the concentration that
+// holds the cell's amount).
+func (d *Discretization) CellValues(y []float64, s int) ([]float64, error) {
 	if err := d.check(y, s); err != nil {
+		return nil, err
+	}
+	c, err := d.concOf(y, nil)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]float64, d.nc)
+	for i := range out {
+		out[i] = c[i*d.ns+s]
+	}
+	return out, nil
+}
+
+// Mean returns the volume average of the concentration of species s,
+// Σ V_i c_i / Σ V_i (with a nonlinear store, of the concentration that
+// diffuses, not of the amount held).
+func (d *Discretization) Mean(y []float64, s int) (float64, error) {
+	c, err := d.CellValues(y, s)
+	if err != nil {
 		return math.NaN(), err
 	}
 	sum, vol := 0.0, 0.0
 	for i := 0; i < d.nc; i++ {
-		sum += d.vol[i] * y[i*d.ns+s]
+		sum += d.vol[i] * c[i]
 		vol += d.vol[i]
 	}
 	return sum / vol, nil
+}
+
+// faceState returns the concentrations near boundary b and the face
+// diffusivity.
+func (d *Discretization) faceState(t float64, y []float64, b *bnd, inner bool) ([]float64, float64, error) {
+	cells := []int{d.nc - 1, d.nc - 2}
+	if inner {
+		cells = []int{0, 1}
+	}
+	c, err := d.concOf(y, cells)
+	if err != nil {
+		return nil, math.NaN(), err
+	}
+	return c, d.boundaryD(b, t, c), nil
 }
 
 // Centre returns the value of species s at the inner end, r = Spec.Inner:
@@ -59,7 +95,11 @@ func (d *Discretization) Centre(t float64, y []float64, s int) (float64, error) 
 	if err := d.check(y, s); err != nil {
 		return math.NaN(), err
 	}
-	return d.inner[s].surface(t, y), nil
+	c, D, err := d.faceState(t, y, &d.inner[s], true)
+	if err != nil {
+		return math.NaN(), err
+	}
+	return d.inner[s].surface(t, c, D), nil
 }
 
 // Surface returns the value of species s just inside the outer face at
@@ -69,7 +109,11 @@ func (d *Discretization) Surface(t float64, y []float64, s int) (float64, error)
 	if err := d.check(y, s); err != nil {
 		return math.NaN(), err
 	}
-	return d.outer[s].surface(t, y), nil
+	c, D, err := d.faceState(t, y, &d.outer[s], false)
+	if err != nil {
+		return math.NaN(), err
+	}
+	return d.outer[s].surface(t, c, D), nil
 }
 
 // SurfaceFlux returns the flux density of species s into the body through
@@ -78,7 +122,11 @@ func (d *Discretization) SurfaceFlux(t float64, y []float64, s int) (float64, er
 	if err := d.check(y, s); err != nil {
 		return math.NaN(), err
 	}
-	return d.outer[s].flux(t, y), nil
+	c, D, err := d.faceState(t, y, &d.outer[s], false)
+	if err != nil {
+		return math.NaN(), err
+	}
+	return d.outer[s].fluxD(t, c, D), nil
 }
 
 // InnerFlux returns the flux density of species s into the body through
@@ -87,7 +135,11 @@ func (d *Discretization) InnerFlux(t float64, y []float64, s int) (float64, erro
 	if err := d.check(y, s); err != nil {
 		return math.NaN(), err
 	}
-	return d.inner[s].flux(t, y), nil
+	c, D, err := d.faceState(t, y, &d.inner[s], true)
+	if err != nil {
+		return math.NaN(), err
+	}
+	return d.inner[s].fluxD(t, c, D), nil
 }
 
 // BathValue returns the bath value of species s, or an error when species
@@ -105,22 +157,27 @@ func (d *Discretization) BathValue(y []float64, s int) (float64, error) {
 
 // Profile returns positions and values of species s at time t: the inner
 // end (Centre), every cell centre with its cell average, and the outer face
-// (Surface). Values on either side of a layer interface with a partition
+// (Surface); with a nonlinear store, of the concentration that diffuses.
+// Values on either side of a layer interface with a partition
 // coefficient differ; the profile shows the cell averages only there.
 func (d *Discretization) Profile(t float64, y []float64, s int) (r, c []float64, err error) {
 	if err := d.check(y, s); err != nil {
 		return nil, nil, err
 	}
+	cv, err := d.concOf(y, nil)
+	if err != nil {
+		return nil, nil, err
+	}
 	r = make([]float64, 0, d.nc+2)
 	c = make([]float64, 0, d.nc+2)
 	r = append(r, d.Grid.Faces[0])
-	c = append(c, d.inner[s].surface(t, y))
+	c = append(c, d.inner[s].surface(t, cv, d.boundaryD(&d.inner[s], t, cv)))
 	for i := 0; i < d.nc; i++ {
 		r = append(r, d.Grid.Centres[i])
-		c = append(c, y[i*d.ns+s])
+		c = append(c, cv[i*d.ns+s])
 	}
 	r = append(r, d.Grid.Faces[d.nc])
-	c = append(c, d.outer[s].surface(t, y))
+	c = append(c, d.outer[s].surface(t, cv, d.boundaryD(&d.outer[s], t, cv)))
 	return r, c, nil
 }
 

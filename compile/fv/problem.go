@@ -22,6 +22,12 @@ type evaluator struct {
 	d           *Discretization
 	jIn, jOut   []float64
 	rate, dRate []float64
+	// With a nonlinear store: the concentrations of the last evaluation
+	// (the warm start of the next inversion) and dc/dq per cell unknown.
+	c, dcdq []float64
+	warm    bool
+	// With a variable diffusivity: scratch for the face values.
+	work *faceWork
 }
 
 // N returns the number of unknowns.
@@ -49,8 +55,13 @@ func (d *Discretization) BathIndex(s int) int {
 // Problem returns the initial-value problem for the solvers: Func, the
 // exact banded Jac, and 3·NSpecies quadratures (see QuadInner). Each call
 // returns an independent Problem with its own scratch space; one Problem's
-// functions must not be called concurrently. Func, Jac and Quad do not
-// allocate.
+// functions must not be called concurrently. Func, Jac, Quad and QuadJac
+// do not allocate.
+//
+// When the system is nonlinear (a nonlinear store, a variable diffusivity
+// or Spec.Kinetics) the Problem also has QuadJac, the exact derivatives of
+// the quadratures, with which the integrator keeps the ledger closed to
+// round-off (see solvers.Problem).
 func (d *Discretization) Problem() *solvers.Problem {
 	e := &evaluator{
 		d:    d,
@@ -61,7 +72,14 @@ func (d *Discretization) Problem() *solvers.Problem {
 	if d.kin != nil {
 		e.dRate = make([]float64, d.ns*d.ns)
 	}
-	return &solvers.Problem{
+	if d.hasStore {
+		e.c = make([]float64, d.n)
+		e.dcdq = make([]float64, d.nc*d.ns)
+	}
+	if d.varD {
+		e.work = newFaceWork(d.ns)
+	}
+	p := &solvers.Problem{
 		N:     d.n,
 		Lower: d.lower,
 		Upper: d.upper,
@@ -70,21 +88,38 @@ func (d *Discretization) Problem() *solvers.Problem {
 		NQuad: QuadPerSpecies * d.ns,
 		Quad:  e.quad,
 	}
+	if d.nonlinear {
+		p.QuadJac = e.quadJac
+	}
+	return p
 }
 
-// boundaryFluxes fills the inward flux densities at both faces.
-func (e *evaluator) boundaryFluxes(t float64, y []float64) {
+// boundaryFluxes fills the inward flux densities at both faces; c holds
+// concentrations.
+func (e *evaluator) boundaryFluxes(t float64, c []float64) {
 	d := e.d
 	for s := 0; s < d.ns; s++ {
-		e.jIn[s] = d.inner[s].flux(t, y)
-		e.jOut[s] = d.outer[s].flux(t, y)
+		e.jIn[s] = e.faceFlux(&d.inner[s], t, c)
+		e.jOut[s] = e.faceFlux(&d.outer[s], t, c)
 	}
+}
+
+// faceFlux returns the inward flux density through a boundary face.
+func (e *evaluator) faceFlux(b *bnd, t float64, c []float64) float64 {
+	if !b.variable() {
+		return b.flux(t, c)
+	}
+	D, ok := e.d.bndD(b, t, c, e.work, false)
+	if !ok {
+		return nan
+	}
+	return b.fluxD(t, c, D)
 }
 
 // volumeRates adds, for cell i, the production rates per unit volume of
 // each species (linear kinetics, sources, extra source, nonlinear kinetics)
-// into e.rate, which it zeroes first.
-func (e *evaluator) volumeRates(t float64, y []float64, i int) {
+// into e.rate, which it zeroes first; c holds concentrations.
+func (e *evaluator) volumeRates(t float64, c []float64, i int) {
 	d := e.d
 	ns := d.ns
 	base := i * ns
@@ -97,7 +132,7 @@ func (e *evaluator) volumeRates(t float64, y []float64, i int) {
 			acc := 0.0
 			row := m[s*ns : s*ns+ns]
 			for j, v := range row {
-				acc += v * y[base+j]
+				acc += v * c[base+j]
 			}
 			r[s] += acc
 		}
@@ -112,7 +147,7 @@ func (e *evaluator) volumeRates(t float64, y []float64, i int) {
 		}
 	}
 	if d.kin != nil {
-		d.kin(t, d.Grid.Centres[i], d.Grid.Layer[i], y[base:base+ns:base+ns], r, nil)
+		d.kin(t, d.Grid.Centres[i], d.Grid.Layer[i], c[base:base+ns:base+ns], r, nil)
 	}
 }
 
@@ -120,7 +155,8 @@ func (e *evaluator) volumeRates(t float64, y []float64, i int) {
 func (e *evaluator) fn(t float64, y, dy []float64) {
 	d := e.d
 	ns, nc := d.ns, d.nc
-	e.boundaryFluxes(t, y)
+	c := e.conc(y)
+	e.boundaryFluxes(t, c)
 	a0, an := d.Grid.Areas[0], d.Grid.Areas[nc]
 	// Fluxes through faces: each cell receives the flux through its inner
 	// face and loses that through its outer face.
@@ -131,17 +167,20 @@ func (e *evaluator) fn(t float64, y, dy []float64) {
 		edge := f < 2 || f+1 >= nc
 		for s := 0; s < ns; s++ {
 			k := f*ns + s
-			w := d.fw[4*k : 4*k+4 : 4*k+4]
 			var g float64
-			if edge {
+			if d.varD && d.fvar[k] != faceStatic {
+				g = e.varFlux(f, s, c)
+			} else if edge {
+				w := d.fw[4*k : 4*k+4 : 4*k+4]
 				for j := range 4 {
-					if c := f - 2 + j; c >= 0 && c < nc {
-						g += w[j] * y[c*ns+s]
+					if cc := f - 2 + j; cc >= 0 && cc < nc {
+						g += w[j] * c[cc*ns+s]
 					}
 				}
 			} else {
+				w := d.fw[4*k : 4*k+4 : 4*k+4]
 				b := k - 2*ns
-				g = w[0]*y[b] + w[1]*y[b+ns] + w[2]*y[b+2*ns] + w[3]*y[b+3*ns]
+				g = w[0]*c[b] + w[1]*c[b+ns] + w[2]*c[b+2*ns] + w[3]*c[b+3*ns]
 			}
 			dy[k-ns] -= g
 			dy[k] = g
@@ -152,7 +191,7 @@ func (e *evaluator) fn(t float64, y, dy []float64) {
 		dy[last+s] += an * e.jOut[s]
 	}
 	for i := 0; i < nc; i++ {
-		e.volumeRates(t, y, i)
+		e.volumeRates(t, c, i)
 		v := d.vol[i]
 		for s := 0; s < ns; s++ {
 			k := i*ns + s
@@ -170,7 +209,8 @@ func (e *evaluator) fn(t float64, y, dy []float64) {
 func (e *evaluator) quad(t float64, y, dq []float64) {
 	d := e.d
 	ns, nc := d.ns, d.nc
-	e.boundaryFluxes(t, y)
+	c := e.conc(y)
+	e.boundaryFluxes(t, c)
 	a0, an := d.Grid.Areas[0], d.Grid.Areas[nc]
 	for s := 0; s < ns; s++ {
 		dq[QuadPerSpecies*s+QuadInner] = a0 * e.jIn[s]
@@ -178,7 +218,7 @@ func (e *evaluator) quad(t float64, y, dq []float64) {
 		dq[QuadPerSpecies*s+QuadProduced] = 0
 	}
 	for i := 0; i < nc; i++ {
-		e.volumeRates(t, y, i)
+		e.volumeRates(t, c, i)
 		v := d.vol[i]
 		for s := 0; s < ns; s++ {
 			dq[QuadPerSpecies*s+QuadProduced] += v * e.rate[s]
@@ -187,7 +227,9 @@ func (e *evaluator) quad(t float64, y, dq []float64) {
 }
 
 // jac fills J with ∂f/∂y: the precomputed linear part plus the derivatives
-// of Spec.Kinetics.
+// of Spec.Kinetics and of the variable diffusivities, all with respect to
+// the concentrations, then the chain rule dc/dq for the cells whose
+// unknown is the amount held.
 func (e *evaluator) jac(t float64, y []float64, J *solvers.Band) {
 	d := e.d
 	if J.N == d.n && J.KL == d.lower && J.KU == d.upper && len(J.Data) == len(d.jac) {
@@ -206,22 +248,31 @@ func (e *evaluator) jac(t float64, y []float64, J *solvers.Band) {
 			}
 		}
 	}
-	if d.kin == nil {
+	if !d.nonlinear {
 		return
 	}
-	ns := d.ns
-	for i := 0; i < d.nc; i++ {
-		base := i * ns
-		clear(e.rate)
-		clear(e.dRate)
-		d.kin(t, d.Grid.Centres[i], d.Grid.Layer[i], y[base:base+ns:base+ns], e.rate, e.dRate)
-		for s := 0; s < ns; s++ {
-			c := 1 / d.cap[base+s]
-			for j := 0; j < ns; j++ {
-				if v := e.dRate[s*ns+j]; v != 0 {
-					J.Add(base+s, base+j, v*c)
+	c := e.conc(y)
+	if d.kin != nil {
+		ns := d.ns
+		for i := 0; i < d.nc; i++ {
+			base := i * ns
+			clear(e.rate)
+			clear(e.dRate)
+			d.kin(t, d.Grid.Centres[i], d.Grid.Layer[i], c[base:base+ns:base+ns], e.rate, e.dRate)
+			for s := 0; s < ns; s++ {
+				cp := 1 / d.cap[base+s]
+				for j := 0; j < ns; j++ {
+					if v := e.dRate[s*ns+j]; v != 0 {
+						J.Add(base+s, base+j, v*cp)
+					}
 				}
 			}
 		}
+	}
+	if d.varD {
+		e.varJacobian(t, c, J)
+	}
+	if d.hasStore {
+		e.scaleColumns(J)
 	}
 }

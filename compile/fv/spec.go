@@ -132,7 +132,36 @@ type Layer struct {
 	// (Partition·c_inner_side − c_outer_side)/Resistance. Nil or zero
 	// means none. Must be unset on the first layer.
 	Resistance []float64
+	// Store, if not nil, gives for each species a nonlinear store: the
+	// amount held per unit volume of body as a function of the
+	// concentration that diffuses (porosity plus a sorption isotherm, say).
+	// A nil entry keeps the linear store Capacity_i·c_i. With a Store the
+	// balance is ∂q_i(c_i)/∂t = r^−ν ∂/∂r(r^ν D_i ∂c_i/∂r) + sources, and
+	// the unknown of each cell is the amount held q (see the package
+	// documentation); Capacity[i], if given, is then only a representative
+	// slope used to share cells between layers and to start the inversion
+	// c(q). The store must increase with c wherever it is evaluated.
+	Store []StoreFunc
+	// Diffusivity, if not nil, gives for each species a diffusivity that
+	// depends on the position and the local concentrations; a nil entry
+	// keeps the constant D[i]. D[i] must still be given (> 0): it is a
+	// representative value used only to share cells between layers.
+	Diffusivity []DiffusivityFunc
 }
+
+// StoreFunc is a nonlinear store: it returns the amount held per unit
+// volume of body, q(c) in mol/m³, and its slope dq/dc (> 0), at the
+// concentration c. It may be called concurrently when several Problems of
+// one Discretization, or its methods, are used at once.
+type StoreFunc func(c float64) (q, dqdc float64)
+
+// DiffusivityFunc is a diffusivity that depends on the position r and the
+// concentrations c of every species (one per species, in the layer, not to
+// be modified). It returns D in m²/s (> 0) and, when dD is not nil, writes
+// ∂D/∂c_j into dD[j] (dD arrives zeroed, with one entry per species). It
+// must not retain its slices and may be called concurrently like a
+// StoreFunc.
+type DiffusivityFunc func(r float64, c, dD []float64) float64
 
 // Spec describes a one-dimensional body, its species, conditions and
 // starting state, for Build.
@@ -226,6 +255,12 @@ func (s *Spec) validate() error {
 		}
 		if err := perSpecies(l, "Resistance", ly.Resistance, ns, false, func(v float64) bool { return v >= 0 }); err != nil {
 			return err
+		}
+		if ly.Store != nil && len(ly.Store) != ns {
+			return fmt.Errorf("fv: layer %d: Store must have one entry per species (%d), got %d", l, ns, len(ly.Store))
+		}
+		if ly.Diffusivity != nil && len(ly.Diffusivity) != ns {
+			return fmt.Errorf("fv: layer %d: Diffusivity must have one entry per species (%d), got %d", l, ns, len(ly.Diffusivity))
 		}
 		if l == 0 && (ly.Partition != nil || ly.Resistance != nil) {
 			return fmt.Errorf("fv: layer 0 has no inner neighbour: Partition and Resistance must be unset (use InnerBC)")
