@@ -31,6 +31,7 @@ type bodySolution struct {
 	// coarse, when set, is the same body on half the cells; values are
 	// then Richardson-extrapolated.
 	coarse *bodySolution
+	peak   map[int]float64 // cache of peakContent
 }
 
 // at returns the index of time t in times (which contains it).

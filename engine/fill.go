@@ -35,7 +35,10 @@ func (s *bodySolution) rawValue(kind string, si, i int) float64 {
 		if kind == "release" {
 			den = m0 - mf
 		}
-		if den == 0 || math.IsNaN(den) || math.Abs(den) < 1e-12*math.Max(math.Abs(m0), math.Abs(mf)) {
+		// No fraction exists when the body ends where it started (e.g. it
+		// fills and empties again): the change must stand out from the
+		// largest amount the body held during the run.
+		if den == 0 || math.IsNaN(den) || math.Abs(den) < 1e-9*s.peakContent(si) {
 			return math.NaN()
 		}
 		if kind == "release" {
@@ -152,7 +155,15 @@ func (s *bodySolution) ledger(m *compile.Model) []Ledger {
 		}
 		l := Ledger{Body: s.body.Name, Species: m.Species[si].Name, Unit: unit,
 			Initial: line.Initial, Inflow: line.InflowInner + line.InflowOuter, Consumed: line.Consumed,
-			Final: line.Final, Closure: math.Abs(line.Closure)}
+			Final: line.Final}
+		// The closure is measured against the largest amount in play: the
+		// terms of the balance and the most the body held during the run
+		// (a body that fills and empties again ends near zero).
+		scale := math.Max(math.Max(math.Abs(l.Initial), math.Abs(l.Final)), math.Max(math.Abs(l.Inflow), math.Abs(l.Consumed)))
+		scale = math.Max(scale, s.peakContent(si))
+		if scale > 0 {
+			l.Closure = math.Abs(l.Initial+l.Inflow-l.Consumed-l.Final) / scale
+		}
 		if m.Run.Steady {
 			l.Closure = 0
 		}
@@ -214,4 +225,21 @@ func estimates(m *compile.Model, fine, coarse, tight *bodySolution, extrapolated
 		}
 	}
 	return out
+}
+
+// peakContent is the largest amount of species si the body held at any
+// output time.
+func (s *bodySolution) peakContent(si int) float64 {
+	if v, ok := s.peak[si]; ok {
+		return v
+	}
+	p := 0.0
+	for _, y := range s.ys {
+		p = math.Max(p, math.Abs(s.disc.Content(y, si)))
+	}
+	if s.peak == nil {
+		s.peak = map[int]float64{}
+	}
+	s.peak[si] = p
+	return p
 }

@@ -55,7 +55,11 @@ func replaceNonFinite(r *Result) map[string]any {
 	}
 	var scalars []map[string]any
 	for _, s := range r.Scalars {
-		scalars = append(scalars, map[string]any{"name": s.Name, "body": s.Body, "species": s.Species, "unit": s.Unit, "value": num(s.Value)})
+		sc := map[string]any{"name": s.Name, "body": s.Body, "species": s.Species, "unit": s.Unit, "value": num(s.Value)}
+		if s.Fraction != 0 {
+			sc["fraction"] = s.Fraction
+		}
+		scalars = append(scalars, sc)
 	}
 	var ledger []map[string]any
 	for _, l := range r.Ledger {
@@ -64,6 +68,25 @@ func replaceNonFinite(r *Result) map[string]any {
 	}
 	out := map[string]any{"model": r.Model, "times_s": fix(r.Times), "series": series, "profiles": profiles,
 		"solver": r.Solver, "ledger": ledger, "caution": r.Caution}
+	if len(r.Estimates) > 0 {
+		var est []map[string]any
+		for _, e := range r.Estimates {
+			est = append(est, map[string]any{"body": e.Body, "species": e.Species, "series": e.Series, "unit": e.Unit,
+				"spatial": num(e.Spatial), "temporal": num(e.Temporal), "extrapolated": e.Extrapolated})
+		}
+		out["error_estimates"] = est
+	}
+	if len(r.Sweeps) > 0 {
+		var sw []map[string]any
+		for _, g := range r.Sweeps {
+			var rows [][]any
+			for _, row := range g.Rows {
+				rows = append(rows, fix(row))
+			}
+			sw = append(sw, map[string]any{"title": g.Title, "columns": g.Columns, "rows": rows})
+		}
+		out["sweeps"] = sw
+	}
 	if checks != nil {
 		out["checks"] = checks
 	}

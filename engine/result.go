@@ -22,7 +22,10 @@ type Result struct {
 	Scalars  []Scalar   `json:"scalars,omitempty"`
 	// Estimates are error estimates, when asked for.
 	Estimates []Estimate `json:"error_estimates,omitempty"`
-	Caution   string     `json:"caution"`
+	// Sweeps are the tables of sweeps: one row per value (per
+	// combination of values for nested sweeps).
+	Sweeps  []SweepTable `json:"sweeps,omitempty"`
+	Caution string       `json:"caution"`
 
 	// Outputs are the rendered outputs in the order the model asked for
 	// them (tables, plots, printed text); not part of the JSON.
@@ -99,6 +102,11 @@ type Check struct {
 // Scalar is a single computed number (a time to a fraction, an
 // effectiveness factor, a steady-state value).
 type Scalar struct {
+	// Fraction is the fraction of a time_to result (0 otherwise).
+	Fraction float64 `json:"fraction,omitempty"`
+	// Label is a readable name for tables ("time to 90 % uptake").
+	Label   string  `json:"-"`
+	shown   bool    // asked for by a show statement
 	Name    string  `json:"name"`
 	Body    string  `json:"body"`
 	Species string  `json:"species"`
@@ -139,4 +147,13 @@ type Estimate struct {
 	// Extrapolated tells whether the reported series are the Richardson
 	// combination (their remaining error is then smaller than Spatial).
 	Extrapolated bool `json:"extrapolated"`
+}
+
+// SweepTable is the gathered result of a sweep: the swept values in the
+// first columns, then the scalar results asked for, in SI units.
+type SweepTable struct {
+	Title   string      `json:"title"`
+	Columns []string    `json:"columns"`
+	Units   []string    `json:"units"`
+	Rows    [][]float64 `json:"rows"`
 }

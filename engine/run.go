@@ -191,6 +191,9 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 		sols[b.Name].fill(m, res)
 	}
 	err = runActions(ctx, m, sols, res, opts)
+	if len(res.Estimates) > 0 {
+		res.Outputs = append(res.Outputs, Output{Kind: "table", Table: estimatesTable(res.Estimates)})
+	}
 	// Every table and plot carries the footer: model hash, massline
 	// version, solver settings and the mass-ledger closure.
 	footer := res.Footer()

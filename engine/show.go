@@ -236,7 +236,8 @@ func scalarOutput(m *compile.Model, it *compile.Result, sols map[string]*bodySol
 		}
 		unit, shown = tu.Name, v/tu.Scale
 	}
-	res.Scalars = append(res.Scalars, Scalar{Name: it.Kind, Body: it.Body, Species: m.Species[it.Species].Name, Unit: unitOf(it.Dim), Value: v})
+	res.Scalars = append(res.Scalars, Scalar{Name: it.Kind, Body: it.Body, Species: m.Species[it.Species].Name, Unit: unitOf(it.Dim), Value: v,
+		Fraction: it.Fraction, Label: name + " of " + speciesLabel(m, it), shown: true})
 	t := &report.Table{Title: name + " of " + speciesLabel(m, it), Columns: []report.Column{{Name: name, Unit: unit}}, Rows: [][]float64{{shown}}}
 	if math.IsNaN(v) && it.Kind == "time_to" {
 		t.Notes = append(t.Notes, "not reached within the run")
@@ -290,4 +291,20 @@ func timeLabel(t float64) string {
 		u = displayUnit{"d", 86400}
 	}
 	return report.FormatNumber(t/u.Scale, 4) + " " + u.Name
+}
+
+// estimatesTable shows the error estimates: the largest over the run of
+// each series, in its SI unit.
+func estimatesTable(es []Estimate) *report.Table {
+	t := &report.Table{Title: "Estimated errors (largest over the run)",
+		Columns: []report.Column{{Name: "spatial"}, {Name: "temporal"}}}
+	for _, e := range es {
+		t.Rows = append(t.Rows, []float64{e.Spatial, e.Temporal})
+		t.Notes = append(t.Notes, fmt.Sprintf("row %d: %s of %s in %s [%s]", len(t.Rows), e.Series, e.Species, e.Body, e.Unit))
+	}
+	t.Notes = append(t.Notes, "spatial: |v(N) − v(N/2)|/3, the Richardson estimate of the grid error of v(N); temporal: the change when rtol is divided by 100")
+	if len(es) > 0 && es[0].Extrapolated {
+		t.Notes = append(t.Notes, "the results shown are Richardson-extrapolated; their remaining spatial error is smaller than this estimate")
+	}
+	return t
 }

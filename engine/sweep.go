@@ -5,10 +5,10 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"strings"
 	"sync"
 
 	"github.com/massline/massline/compile"
-	"github.com/massline/massline/compile/units"
 	"github.com/massline/massline/report"
 )
 
@@ -105,8 +105,9 @@ func runPoint(ctx context.Context, sw *compile.Sweep, opts *Options, v float64) 
 	return p
 }
 
-// gatherSweep turns the per-value results into one table (a row per value)
-// and plots (a curve per value), and collects the checks.
+// gatherSweep turns the per-value results into one table (a row per value,
+// or per combination of values when sweeps are nested) and plots (a
+// curve per value), and collects the checks.
 func gatherSweep(sw *compile.Sweep, points []sweepPoint, res *Result) {
 	unit := sw.Unit
 	scale := 1.0
@@ -115,40 +116,67 @@ func gatherSweep(sw *compile.Sweep, points []sweepPoint, res *Result) {
 	} else {
 		unit = ""
 	}
-	// The table: the swept value, then every scalar output of the first
-	// point (time to a fraction, effectiveness…) and the end value of
-	// every time series.
-	t := &report.Table{Title: "Sweep over " + sw.Param, Columns: []report.Column{{Name: sw.Param, Unit: unit}}}
 	first := points[0].res
-	type col struct {
-		scalar int // index into Scalars, or -1
-		series int // index into Series, or -1
+	// The grid: this sweep's value, then either the rows of the inner
+	// sweep or the scalar results each point was asked to show.
+	g := SweepTable{Title: "Sweep over " + sw.Param, Columns: []string{sw.Param}, Units: []string{unitOrSI(unit, points[0].m, sw.Param)}}
+	tcols := []report.Column{{Name: sw.Param, Unit: unit}}
+	if len(first.Sweeps) > 0 {
+		inner := first.Sweeps[len(first.Sweeps)-1]
+		g.Title = "Sweep over " + sw.Param + " and " + strings.TrimPrefix(inner.Title, "Sweep over ")
+		g.Columns = append(g.Columns, inner.Columns...)
+		g.Units = append(g.Units, inner.Units...)
+		for i, c := range inner.Columns {
+			tcols = append(tcols, report.Column{Name: c, Unit: inner.Units[i]})
+		}
+		for _, p := range points {
+			if len(p.res.Sweeps) == 0 {
+				continue
+			}
+			for _, row := range p.res.Sweeps[len(p.res.Sweeps)-1].Rows {
+				g.Rows = append(g.Rows, append([]float64{p.value}, row...))
+			}
+		}
+	} else {
+		var shown []int
+		for i, sc := range first.Scalars {
+			if sc.shown {
+				shown = append(shown, i)
+				g.Columns = append(g.Columns, sc.Label)
+				g.Units = append(g.Units, sc.Unit)
+				tcols = append(tcols, report.Column{Name: sc.Label, Unit: sc.Unit})
+			}
+		}
+		for _, p := range points {
+			row := []float64{p.value}
+			for _, i := range shown {
+				v := math.NaN()
+				if i < len(p.res.Scalars) {
+					v = p.res.Scalars[i].Value
+				}
+				row = append(row, v)
+			}
+			g.Rows = append(g.Rows, row)
+		}
 	}
-	var cols []col
-	for i, s := range first.Scalars {
-		t.Columns = append(t.Columns, report.Column{Name: s.Name + " " + s.Species, Unit: s.Unit})
-		cols = append(cols, col{scalar: i, series: -1})
+	res.Sweeps = append(res.Sweeps, g)
+	if len(g.Columns) > 1 {
+		t := &report.Table{Title: g.Title, Columns: tcols}
+		for _, row := range g.Rows {
+			r := append([]float64(nil), row...)
+			r[0] /= scale
+			t.Rows = append(t.Rows, r)
+		}
+		res.Outputs = append(res.Outputs, Output{Kind: "table", Table: t})
 	}
 	for _, p := range points {
-		row := []float64{p.value / scale}
-		for _, c := range cols {
-			v := math.NaN()
-			if c.scalar >= 0 && c.scalar < len(p.res.Scalars) {
-				v = p.res.Scalars[c.scalar].Value
-			}
-			row = append(row, v)
-		}
-		t.Rows = append(t.Rows, row)
 		for _, ch := range p.res.Checks {
 			ch.Text = fmt.Sprintf("%s (with %s = %s)", ch.Text, sw.Param, formatValue(p.value, sw.Unit))
 			res.Checks = append(res.Checks, ch)
 		}
 	}
-	if len(cols) > 0 {
-		res.Outputs = append(res.Outputs, Output{Kind: "table", Table: t})
-	}
 	// Plots: each plot of the first point becomes a family with one curve
-	// per value (the first curve of that plot at each value).
+	// per value (the last curve of that plot at each value).
 	for k, o := range first.Outputs {
 		if o.Kind != "plot" {
 			continue
@@ -160,6 +188,9 @@ func gatherSweep(sw *compile.Sweep, points []sweepPoint, res *Result) {
 			}
 			s := p.res.Outputs[k].Plot.Series[len(p.res.Outputs[k].Plot.Series)-1]
 			s.Name = sw.Param + " = " + formatValue(p.value, sw.Unit)
+			if len(p.res.Outputs[k].Plot.Series) > 1 {
+				s.Name += ", " + p.res.Outputs[k].Plot.Series[len(p.res.Outputs[k].Plot.Series)-1].Name
+			}
 			fam.Series = append(fam.Series, s)
 		}
 		res.Outputs = append(res.Outputs, Output{Kind: "plot", Plot: fam})
@@ -173,9 +204,21 @@ func gatherSweep(sw *compile.Sweep, points []sweepPoint, res *Result) {
 		}
 		addStatsInfo(&res.Solver, p.res.Solver)
 	}
-	for _, p := range points {
-		res.Scalars = append(res.Scalars, Scalar{Name: "sweep:" + sw.Param, Unit: units.Dimensionless.String(), Value: p.value})
+}
+
+// unitOrSI is the SI unit of a swept quantity for the JSON.
+func unitOrSI(unit string, m *compile.Model, name string) string {
+	if m != nil {
+		for _, q := range m.Quantities {
+			if q.Name == name {
+				return unitOf(q.Dim)
+			}
+		}
 	}
+	if u, ok := parseUnit(unit); ok && unit != "" {
+		return unitOf(u.Dim)
+	}
+	return "1"
 }
 
 func addStatsInfo(dst *SolverInfo, s SolverInfo) {
