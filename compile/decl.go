@@ -22,9 +22,7 @@ func (c *checker) checkSpecies() {
 		var dExpr *Expr
 		if p, ok := props["diffusivity"]; ok {
 			dExpr, _ = c.want(p.Value, &context{what: "a diffusivity", pos: true, conc: true}, units.Diffusivity, "a diffusivity")
-			if v, isConst := dExpr.IsConst(); isConst && dExpr != nil && v <= 0 {
-				c.diags.Add("range", p.Value.Span(), "a diffusivity must be positive, not %s", c.shown(p.Value, v, units.Diffusivity))
-			}
+			c.positiveIfConst(p.Value, dExpr, units.Diffusivity, "a diffusivity")
 		} else if !unknown {
 			c.diags.Add("missing", s.Name.Range, "species %s has no diffusivity; add `diffusivity = ...` to its block", sp.Name)
 		}
@@ -379,6 +377,7 @@ func (c *checker) checkBalances() {
 		axial := b.Shape == ShortCylinder
 		if p, ok := props["diffusivity"]; ok {
 			bal.Diffusivity, _ = c.want(p.Value, &context{what: "a diffusivity", pos: true, axial: axial, conc: true}, units.Diffusivity, "a diffusivity")
+			c.positiveIfConst(p.Value, bal.Diffusivity, units.Diffusivity, "a diffusivity")
 		}
 		if p, ok := props["source"]; ok {
 			var good bool
@@ -1075,5 +1074,22 @@ func (c *checker) setMassSpecies(targets []int) {
 	c.massSpecies = -1
 	if len(targets) == 1 {
 		c.massSpecies = targets[0]
+	}
+}
+
+// positiveIfConst reports a constant expression that is not a positive,
+// finite number (zero, negative, NaN or infinite).
+func (c *checker) positiveIfConst(e dsl.Expr, x *Expr, dim units.Dim, role string) {
+	if x == nil {
+		return
+	}
+	v, isConst := x.IsConst()
+	if !isConst {
+		return
+	}
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		c.diags.Add("range", e.Span(), "%s evaluates to %g, not a number", role, v)
+	} else if v <= 0 {
+		c.diags.Add("range", e.Span(), "%s must be positive, not %s", role, c.shown(e, v, dim))
 	}
 }

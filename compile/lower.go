@@ -317,7 +317,9 @@ func kineticsFunc(ls []*layerKinetics, ns int) func(t, r float64, layer int, c, 
 
 // exprFunc evaluates one model expression by a Tape under a mutex, so
 // that the functions handed to the discretisation are safe for concurrent
-// use (its output methods and several Problems may run at once).
+// use (its output methods and several Problems may run at once). Stores,
+// functions of one concentration, use Expr.Univariate instead, which
+// needs no scratch space.
 type exprFunc struct {
 	mu   sync.Mutex
 	tape *Tape
@@ -347,16 +349,9 @@ func lowerStore(m *Model, b *Body, r *Region, si int, e *Expr, conds map[string]
 			return nil, 0, &UnsupportedError{What: fmt.Sprintf("the store of %s in %s depends on another species (%s); a nonlinear store may depend only on the concentration %s", sp.Name, r.Name, m.Species[j].Name, sp.Name)}
 		}
 	}
-	x := newExprFunc(e, nm)
-	st := func(c float64) (float64, float64) {
-		x.mu.Lock()
-		x.env.C[si] = c
-		q := x.tape.Eval(&x.env, x.grad)
-		dq := x.grad[si]
-		x.mu.Unlock()
-		return q, dq
-	}
-	lo, hi := concentrationRange(b, r, si, conds)
+	u := e.Univariate(si)
+	st := func(c float64) (float64, float64) { return u(0, c) }
+	lo, hi := concentrationRange(r, si, conds)
 	// The slope must be positive over the range (checked at 65 points).
 	const samples = 64
 	for i := 0; i <= samples; i++ {
@@ -385,7 +380,7 @@ func lowerStore(m *Model, b *Body, r *Region, si int, e *Expr, conds map[string]
 // species si that the region starts from or a boundary imposes at the
 // start or at a switching time (inside the body: the outside value times
 // the partition coefficient), with 0 included.
-func concentrationRange(b *Body, r *Region, si int, conds map[string]map[int]*Condition) (lo, hi float64) {
+func concentrationRange(r *Region, si int, conds map[string]map[int]*Condition) (lo, hi float64) {
 	add := func(v float64) {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return
@@ -442,26 +437,36 @@ func lowerDiffusivity(m *Model, b *Body, r *Region, si int, e *Expr) (fv.Diffusi
 			return nil, 0, fmt.Errorf("the diffusivity of %s in %s reads %s, which has no balance in %s", sp.Name, r.Name, m.Species[j].Name, b.Name)
 		}
 	}
-	x := newExprFunc(e, nm)
 	species := b.Species
-	df := func(pos float64, c, dD []float64) float64 {
-		x.mu.Lock()
-		x.env.R = pos
-		for k, sj := range species {
-			x.env.C[sj] = c[k]
+	var reads []int // local indices of the species D reads
+	for k, sj := range species {
+		if deps.Species[sj] {
+			reads = append(reads, k)
 		}
-		var g []float64
-		if dD != nil {
-			g = x.grad
+	}
+	var df fv.DiffusivityFunc
+	if len(reads) <= 1 {
+		// A function of r and at most one concentration: dual numbers,
+		// no scratch space.
+		k, j := -1, -1
+		if len(reads) == 1 {
+			k = reads[0]
+			j = species[k]
 		}
-		v := x.tape.Eval(&x.env, g)
-		if dD != nil {
-			for k, sj := range species {
-				dD[k] = g[sj]
+		u := e.Univariate(j)
+		df = func(pos float64, c, dD []float64) float64 {
+			x := 0.0
+			if k >= 0 {
+				x = c[k]
 			}
+			v, d := u(pos, x)
+			if dD != nil && k >= 0 {
+				dD[k] = d
+			}
+			return v
 		}
-		x.mu.Unlock()
-		return v
+	} else {
+		df = tapeDiffusivity(e, nm, species)
 	}
 	mid := 0.5 * (r.Inner + r.Outer)
 	c := make([]float64, len(species))
@@ -476,4 +481,26 @@ func lowerDiffusivity(m *Model, b *Body, r *Region, si int, e *Expr) (fv.Diffusi
 		return nil, 0, fmt.Errorf("the diffusivity of %s in %s is %g at r = %g m with the starting concentrations; it must be positive", sp.Name, r.Name, rep, mid)
 	}
 	return df, rep, nil
+}
+
+// tapeDiffusivity evaluates a diffusivity that reads several
+// concentrations by a Tape (under a mutex), with its gradient.
+func tapeDiffusivity(e *Expr, nm int, species []int) fv.DiffusivityFunc {
+	x := newExprFunc(e, nm)
+	return func(pos float64, c, dD []float64) float64 {
+		x.mu.Lock()
+		defer x.mu.Unlock()
+		x.env.R = pos
+		for k, sj := range species {
+			x.env.C[sj] = c[k]
+		}
+		if dD == nil {
+			return x.tape.Eval(&x.env, nil)
+		}
+		v := x.tape.Eval(&x.env, x.grad)
+		for k, sj := range species {
+			dD[k] = x.grad[sj]
+		}
+		return v
+	}
 }

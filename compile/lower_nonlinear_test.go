@@ -110,13 +110,16 @@ func TestLowerVariableDiffusivity(t *testing.T) {
 	src := `massline 1
 species s { diffusivity = 1e-9 [m^2/s] * exp(0.8 * s / 1 [mol/m^3]) }
 species u { diffusivity = 2e-10 [m^2/s] * (1 + r / 1 [mm]) * (1 + s / 1 [mol/m^3]) }
+species w { diffusivity = 3e-10 [m^2/s] * (1 + (s + 2 * w) / 1 [mol/m^3]) }
 body b = slab(half_thickness = 1 [mm])
 balance s in b
 balance u in b
+balance w in b
 boundary b.centre: symmetry
 boundary b.surface: fixed(1 [mol/m^3])
 initially b: s = 0.5 [mol/m^3]
 initially b: u = 0 [mol/m^3]
+initially b: w = 0.1 [mol/m^3]
 run until 10 [s]
 `
 	low, err := lowerSource(t, src, Settings{})
@@ -124,22 +127,28 @@ run until 10 [s]
 		t.Fatal(err)
 	}
 	ly := low.Spec.Layers[0]
-	if ly.Diffusivity == nil || ly.Diffusivity[0] == nil || ly.Diffusivity[1] == nil {
+	if ly.Diffusivity == nil || ly.Diffusivity[0] == nil || ly.Diffusivity[1] == nil || ly.Diffusivity[2] == nil {
 		t.Fatal("the diffusivities were not lowered to functions")
 	}
 	if want := 1e-9 * math.Exp(0.8*0.5); math.Abs(ly.D[0]-want) > 1e-12*want {
 		t.Errorf("representative D = %g, want %g (at the starting value)", ly.D[0], want)
 	}
-	c := []float64{0.7, 0.2}
-	dD := make([]float64, 2)
+	c := []float64{0.7, 0.2, 0.4}
+	dD := make([]float64, 3)
 	D := ly.Diffusivity[0](3e-4, c, dD)
-	if w := 1e-9 * math.Exp(0.56); math.Abs(D-w) > 1e-14*w || math.Abs(dD[0]-0.8*w) > 1e-14*w || dD[1] != 0 {
-		t.Errorf("D_s = %g, ∂D/∂c = %v; want %g, [%g 0]", D, dD, w, 0.8*w)
+	if w := 1e-9 * math.Exp(0.56); math.Abs(D-w) > 1e-14*w || math.Abs(dD[0]-0.8*w) > 1e-14*w || dD[1] != 0 || dD[2] != 0 {
+		t.Errorf("D_s = %g, ∂D/∂c = %v; want %g, [%g 0 0]", D, dD, w, 0.8*w)
 	}
 	clear(dD)
 	D = ly.Diffusivity[1](3e-4, c, dD)
-	if w := 2e-10 * 1.3 * 1.7; math.Abs(D-w) > 1e-14*w || math.Abs(dD[0]-2e-10*1.3) > 1e-14*w || dD[1] != 0 {
-		t.Errorf("D_u = %g, ∂D/∂c = %v; want %g, [%g 0]", D, dD, w, 2e-10*1.3)
+	if w := 2e-10 * 1.3 * 1.7; math.Abs(D-w) > 1e-14*w || math.Abs(dD[0]-2e-10*1.3) > 1e-14*w || dD[1] != 0 || dD[2] != 0 {
+		t.Errorf("D_u = %g, ∂D/∂c = %v; want %g, [%g 0 0]", D, dD, w, 2e-10*1.3)
+	}
+	// Two concentrations: evaluated by a Tape.
+	clear(dD)
+	D = ly.Diffusivity[2](3e-4, c, dD)
+	if w := 3e-10 * 2.5; math.Abs(D-w) > 1e-14*w || math.Abs(dD[0]-3e-10) > 1e-14*w || dD[1] != 0 || math.Abs(dD[2]-6e-10) > 1e-14*w {
+		t.Errorf("D_w = %g, ∂D/∂c = %v; want %g, [3e-10 0 6e-10]", D, dD, w)
 	}
 	// The run solves and its ledger closes.
 	d, err := fv.Build(low.Spec)

@@ -68,6 +68,7 @@ func TestTapeZeroPartials(t *testing.T) {
 	if v != 0 || g[1] != 0 || !math.IsInf(g[0], 1) {
 		t.Errorf("value %g, gradient %v; want 0 and [+Inf 0]", v, g)
 	}
+
 }
 
 // TestTapeNoAllocations: Eval does not allocate.
@@ -76,7 +77,43 @@ func TestTapeNoAllocations(t *testing.T) {
 	tape := NewTape(e, 1)
 	env := Env{C: []float64{0.5}}
 	g := make([]float64, 1)
-	if a := testing.AllocsPerRun(100, func() { tape.Eval(&env, g) }); a != 0 {
-		t.Errorf("Eval allocates %v times", a)
+	u := e.Univariate(0)
+	if a := testing.AllocsPerRun(100, func() { tape.Eval(&env, g); u(0, 0.5) }); a != 0 {
+		t.Errorf("Eval and Univariate allocate %v times", a)
+	}
+}
+
+// TestUnivariateMatchesTape: Univariate gives Eval's value and partial
+// derivative for expressions of one concentration, every operation and
+// function included.
+func TestUnivariateMatchesTape(t *testing.T) {
+	c := tv(0)
+	exprs := map[string]*Expr{
+		"langmuir": tb(opAdd, tb(opMul, tc(0.4), c), tb(opDiv, tb(opMul, tc(20), c), tb(opAdd, tc(1), tb(opMul, tc(2), c)))),
+		"pow":      tb(opAdd, tb(opPow, c, tc(0.45)), tf("pow", tc(1.5), c)),
+		"pow var":  tb(opPow, tb(opAdd, c, tc(1)), c),
+		"funcs": tb(opAdd, tb(opAdd, tf("exp", c), tf("log", tb(opAdd, c, tc(1)))),
+			tb(opAdd, tf("log10", tb(opAdd, c, tc(2))), tf("ln", tb(opAdd, c, tc(3))))),
+		"hyperbolic": tb(opAdd, tb(opAdd, tf("sinh", c), tf("cosh", c)), tb(opAdd, tf("tanh", c), tf("coth", tb(opAdd, c, tc(1))))),
+		"sqrt abs":   tb(opMul, tf("sqrt", c), tf("abs", tb(opSub, c, tc(0.9)))),
+		"min max":    tb(opAdd, tf("min", c, tc(0.7), tb(opMul, c, c)), tf("max", tc(0.2), tb(opDiv, tc(1), c))),
+		"if":         &Expr{op: opCond, args: []*Expr{tb(opLE, c, tc(0.6)), tb(opMul, c, c), &Expr{op: opNeg, args: []*Expr{c}}}},
+		"logic":      tb(opMul, &Expr{op: opNot, args: []*Expr{tb(opAnd, tb(opGT, c, tc(0.3)), tb(opNE, c, tc(1)))}}, c),
+		"time and r": tb(opAdd, c, tb(opMul, tr(), tb(opAdd, &Expr{op: opTime}, tc(1)))),
+	}
+	for name, e := range exprs {
+		tape := NewTape(e, 1)
+		u := e.Univariate(0)
+		for _, x := range []float64{0, 0.1, 0.5, 0.6, 1.3, 2.5} {
+			g := make([]float64, 1)
+			v := tape.Eval(&Env{R: 2e-3, C: []float64{x}}, g)
+			uv, ud := u(2e-3, x)
+			same := func(a, b float64) bool {
+				return a == b || math.IsNaN(a) && math.IsNaN(b) || math.Abs(a-b) <= 1e-15*math.Abs(b)
+			}
+			if !same(uv, v) || !same(ud, g[0]) {
+				t.Errorf("%s at %g: Univariate %.17g, %.17g; Tape %.17g, %.17g", name, x, uv, ud, v, g[0])
+			}
+		}
 	}
 }

@@ -80,7 +80,7 @@ func formatQuantity(v float64, d interface{ String() string }, unit string) stri
 
 func expect(m *compile.Model, e *compile.Expect, sols map[string]*bodySolution) Check {
 	got := scalarResult(m, e.Subject, e.At, sols)
-	c := Check{Text: e.Text, Got: got, Want: e.Value, Tol: e.Tol, Relative: e.Relative, Unit: unitOf(e.Subject.Dim)}
+	c := Check{Where: e.Def, Text: e.Text, Got: got, Want: e.Value, Tol: e.Tol, Relative: e.Relative, Unit: unitOf(e.Subject.Dim)}
 	diff := math.Abs(got - e.Value)
 	if e.Relative {
 		c.Passed = diff <= e.Tol*math.Abs(e.Value)

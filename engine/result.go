@@ -3,6 +3,7 @@ package engine
 import (
 	"time"
 
+	"github.com/massline/massline/dsl/diag"
 	"github.com/massline/massline/report"
 )
 
@@ -90,13 +91,15 @@ type Ledger struct {
 
 // Check is the outcome of one expect statement.
 type Check struct {
-	Text     string  `json:"text"`
-	Got      float64 `json:"got"`
-	Want     float64 `json:"want"`
-	Tol      float64 `json:"tolerance"`
-	Relative bool    `json:"relative"`
-	Unit     string  `json:"unit"`
-	Passed   bool    `json:"passed"`
+	// Where is the expect statement (not in the JSON: Text quotes it).
+	Where    diag.Range `json:"-"`
+	Text     string     `json:"text"`
+	Got      float64    `json:"got"`
+	Want     float64    `json:"want"`
+	Tol      float64    `json:"tolerance"`
+	Relative bool       `json:"relative"`
+	Unit     string     `json:"unit"`
+	Passed   bool       `json:"passed"`
 }
 
 // Scalar is a single computed number (a time to a fraction, an

@@ -9,6 +9,7 @@ import (
 	"os"
 	"os/signal"
 	"path/filepath"
+	"strconv"
 	"strings"
 
 	"github.com/massline/massline/compile"
@@ -28,11 +29,11 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs.SetOutput(stderr)
 	out := fs.String("out", "", "directory for the plots (SVG) and numbers (JSON); default: next to the model")
 	csv := fs.Bool("csv", false, "also write every table as CSV (BASE-table-N.csv)")
-	if err := fs.Parse(args); err != nil {
+	if err := parseInterleaved(fs, args); err != nil {
 		return 2
 	}
 	if fs.NArg() != 1 {
-		fmt.Fprintln(stderr, "usage: massline run [--out DIR] FILE.mln")
+		fmt.Fprintln(stderr, "usage: massline run [--out DIR] [--csv] FILE.mln   (or a notebook: massline run NOTEBOOK.ipynb [--out DIR] [--html] [-w] [--keep-going])")
 		return 2
 	}
 	path := fs.Arg(0)
@@ -50,7 +51,12 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	}
 	if err != nil {
 		var ee *engine.Error
-		if errors.As(err, &ee) || !diags.HasErrors() {
+		switch {
+		case errors.As(err, &ee) && ee.Where.Start.IsValid():
+			// A failure while solving, shown like a check-time diagnostic.
+			d := &diag.Diagnostic{Severity: diag.Error, Code: "run", Subject: ee.Where, Message: ee.Msg}
+			fmt.Fprint(stderr, diag.Text(diag.List{d}, sources))
+		case !diags.HasErrors():
 			fmt.Fprintf(stderr, "massline: %v\n", err)
 		}
 		return 1
@@ -74,7 +80,14 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stdout, "wrote %s\n", w)
 	}
 	if !res.Passed() {
-		fmt.Fprintln(stderr, "massline: some expectations of the model failed")
+		var failed diag.List
+		for _, c := range res.Checks {
+			if !c.Passed {
+				failed = append(failed, &diag.Diagnostic{Severity: diag.Error, Code: "expect", Subject: c.Where,
+					Message: fmt.Sprintf("expectation not met: computed %s, expected %s within %s", fmtCheck(c.Got, c.Unit), fmtCheck(c.Want, c.Unit), fmtTol(c))})
+			}
+		}
+		fmt.Fprint(stderr, diag.Text(failed, sources))
 		return 1
 	}
 	return 0
@@ -251,4 +264,36 @@ func checkNotebook(path string, data []byte) (diag.List, diag.Sources, error) {
 		}
 	}
 	return all, srcs, nil
+}
+
+// parseInterleaved parses flags that may come before or after the
+// positional arguments (massline run model.mln --out dir).
+func parseInterleaved(fs *flag.FlagSet, args []string) error {
+	var pos []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			return err
+		}
+		if fs.NArg() == 0 {
+			break
+		}
+		pos = append(pos, fs.Arg(0))
+		args = fs.Args()[1:]
+	}
+	return fs.Parse(append([]string{"--"}, pos...))
+}
+
+func fmtCheck(v float64, unit string) string {
+	s := strconv.FormatFloat(v, 'g', 6, 64)
+	if unit != "" && unit != "1" {
+		s += " " + unit
+	}
+	return s
+}
+
+func fmtTol(c engine.Check) string {
+	if c.Relative {
+		return strconv.FormatFloat(c.Tol*100, 'g', 4, 64) + " %"
+	}
+	return fmtCheck(c.Tol, c.Unit)
 }

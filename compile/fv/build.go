@@ -51,8 +51,8 @@ type Discretization struct {
 
 	// Nonlinear stores and concentration-dependent diffusivities (see
 	// nonlinear.go).
-	store     []StoreFunc // per cell unknown; nil where the store is linear
-	slope     []float64   // per cell unknown: representative dq/dc (cold starts)
+	store     []StoreFunc    // per cell unknown; nil where the store is linear
+	inv       []storeInverse // per cell unknown: for inverting the store
 	hasStore  bool
 	varD      bool           // some face has a variable diffusivity
 	nonlinear bool           // store, variable D or Kinetics: QuadJac is provided
@@ -214,7 +214,11 @@ func (b *bnd) surface(t float64, y []float64, D float64) float64 {
 // Cells: a layer with Cells = 0 receives a share of DefaultCells in
 // proportion to its thickness divided by √(D/Capacity) of its slowest
 // species (so a thin coat of low diffusivity gets its share), and at least
-// 6.
+// 6; with a Store or a Diffusivity function, D and Capacity are the
+// representative values given in the Layer.
+//
+// A nonlinear store is checked at the starting values: Build returns an
+// error if it is not finite or does not increase there.
 //
 // Clustering: a face is active if it is the body's outer face, an inner
 // face with a condition other than Symmetry or an insulated Flux, or an
@@ -388,17 +392,30 @@ func Build(spec *Spec) (*Discretization, error) {
 		d.layers[l] = ld
 	}
 	d.store = make([]StoreFunc, nc*ns)
-	d.slope = make([]float64, nc*ns)
+	d.inv = make([]storeInverse, nc*ns)
+	q0 := make([][]float64, nl) // q(0) of each store, NaN if not finite
+	for l := range d.layers {
+		q0[l] = make([]float64, ns)
+		for s, st := range d.layers[l].store {
+			if st != nil {
+				q, _ := st(0)
+				if !finite(q) {
+					q = math.NaN()
+				}
+				q0[l][s] = q
+			}
+		}
+	}
 	for i := 0; i < nc; i++ {
 		ly := &spec.Layers[g.Layer[i]]
 		ld := &d.layers[g.Layer[i]]
 		for s := 0; s < ns; s++ {
 			k := i*ns + s
 			c := ld.cap[s]
-			d.slope[k] = c
 			if st := ld.store[s]; st != nil {
 				// The unknown is the amount held per unit volume.
 				d.store[k] = st
+				d.inv[k] = storeInverse{f: st, q0: q0[g.Layer[i]][s], slope: c}
 				c = 1
 			}
 			d.cap[k] = c

@@ -68,8 +68,10 @@
 // and its equation is V_i dq_i/dt = Σ (face fluxes) + V_i r_i: the fluxes
 // are computed from the concentrations c_i = C(q_i), obtained in every
 // cell at every evaluation by a scalar Newton iteration on q(c) = q_i
-// (warm-started from the previous evaluation, steps halved until the
-// residual decreases, stopped when the step falls below 1e-14 relative).
+// (started from the previous evaluation's solution moved along its
+// tangent, steps halved until the residual decreases, stopped when the
+// step falls below 1e-9 relative, which by quadratic convergence leaves
+// an error near round-off).
 // Each face flux still enters two cells with opposite signs, so
 // d/dt Σ V_i q_i equals the boundary inflow plus production exactly, and
 // since a BDF (like any linear multistep formula) is linear in the
@@ -86,9 +88,16 @@
 // CellValues report the concentration c. A store that does not increase
 // where it is evaluated, so that c cannot be recovered, makes the
 // evaluation return NaN (the integrator shortens its step) and is
-// reported by EvalError. EquilibriumContent and EquilibriumWithBath give
-// the content at equilibrium with a surface value or a bath (the latter by
-// a safeguarded Newton iteration on the scalar conservation equation).
+// reported by EvalError. The inversion is bracketed by c = 0 (q(0) ≤ q_i
+// or not) and never steps outside the bracket it has found, so it cannot
+// jump over a singularity of the store to another branch (a Langmuir
+// isotherm has a pole at c = −1/K beyond which it holds every amount a
+// second time). EquilibriumContent and EquilibriumWithBath give the
+// content at equilibrium with a surface value or a bath (the latter by a
+// safeguarded Newton iteration on the scalar conservation equation), and
+// SteadyState solves for the steady state in the concentrations, where the
+// store drops out (Newton's method on the amounts held overshoots where
+// the store flattens).
 //
 // # Variable diffusivity
 //

@@ -3,6 +3,8 @@ package fv
 import (
 	"fmt"
 	"math"
+
+	"github.com/massline/massline/solvers"
 )
 
 // EquilibriumContent returns the amount of species s the body holds (in
@@ -175,4 +177,41 @@ func (d *Discretization) layerVolumes() []float64 {
 		vol[d.Grid.Layer[i]] += d.vol[i]
 	}
 	return vol
+}
+
+// SteadyState solves for the steady state at time t (Func = 0) by
+// solvers.Steady, starting from the state y0, and returns it as a state of
+// this discretisation. With a nonlinear store it solves for the
+// concentrations, where the store plays no part (at steady state nothing
+// accumulates): Newton's method on the amounts held would see the
+// curvature of the inverse store on top of the problem's own and, from a
+// distant start, overshoot (a step δc taken as q'(c)·δc in q can land far
+// beyond c + δc where the store flattens). The concentrations found are
+// then converted back to amounts, q(c). s may be nil (defaults).
+func (d *Discretization) SteadyState(t float64, y0 []float64, s *solvers.SteadySettings) ([]float64, error) {
+	if len(y0) != d.n {
+		return nil, fmt.Errorf("fv: state has length %d, want %d", len(y0), d.n)
+	}
+	if !d.hasStore {
+		return solvers.Steady(d.Problem(), y0, t, s)
+	}
+	c0, err := d.concOf(y0, nil)
+	if err != nil {
+		return nil, err
+	}
+	c, err := solvers.Steady(d.problem(true), c0, t, s)
+	if err != nil {
+		return nil, err
+	}
+	for k := 0; k < d.nc*d.ns; k++ {
+		if st := d.store[k]; st != nil {
+			q, dq := st(c[k])
+			if !finite(q) || !(dq > 0) {
+				return nil, &NonlinearError{Layer: d.Grid.Layer[k/d.ns], Species: k % d.ns, R: d.Grid.Centres[k/d.ns],
+					Msg: fmt.Sprintf("at the steady state the store at c = %g is %g with slope %g", c[k], q, dq)}
+			}
+			c[k] = q
+		}
+	}
+	return c, nil
 }

@@ -59,48 +59,130 @@ func (d *Discretization) fail(err error) {
 // maxStoreIter bounds the Newton iterations of one inversion.
 const maxStoreIter = 100
 
-// invertStore solves q(c) = u for c by Newton's method from guess (and, if
-// that fails, from cold), with step halving until |q − u| decreases. It
-// returns c and dq/dc at c.
-func invertStore(f StoreFunc, u, guess, cold float64) (c, slope float64, err error) {
-	c, slope, err = newtonStore(f, u, guess)
-	if err == nil || guess == cold || !finite(cold) {
-		return c, slope, err
-	}
-	return newtonStore(f, u, cold)
+// storeTol is the relative size of the last Newton step of an inversion.
+const storeTol = 1e-9
+
+// storeInverse is what an inversion knows about one store: the function,
+// its value at c = 0 (NaN when not finite) and a representative slope.
+type storeInverse struct {
+	f     StoreFunc
+	q0    float64
+	slope float64
 }
 
-func newtonStore(f StoreFunc, u, c float64) (float64, float64, error) {
+// cold returns a starting guess for q(c) = u: the linearisation about 0,
+// (u − q(0))/slope, which lies on the side of 0 where the root is.
+func (si *storeInverse) cold(u float64) float64 {
+	if finite(si.q0) {
+		return (u - si.q0) / si.slope
+	}
+	return u / si.slope
+}
+
+// invert solves q(c) = u for c by a safeguarded Newton iteration from
+// guess, and returns c and dq/dc.
+//
+// Where q(0) is finite, c = 0 bounds the root (from below when u ≥ q(0),
+// from above otherwise), every point taken must be consistent with it
+// (q(c) > q(0) for c > 0, q(c) < q(0) for c < 0) and with the bracket
+// found so far, and steps that leave the bracket fall back to regula falsi
+// or bisection. So the iteration stays on the branch of the store that
+// contains c = 0: a Newton step from a reasonable start cannot jump over a
+// singularity (a Langmuir isotherm has a pole at c = −1/K, beyond which it
+// holds every amount a second time). Without a two-sided bracket, steps
+// are halved until |q − u| decreases. A point where the store is not
+// finite or does not increase is not taken; if no step can be taken the
+// inversion fails with an error that says so.
+func (si *storeInverse) invert(u, guess float64) (float64, float64, error) {
 	if !finite(u) {
 		return nan, nan, fmt.Errorf("the amount held is %g", u)
 	}
-	q, dq := f(c)
-	if !finite(q) || !finite(dq) || !(dq > 0) {
-		return nan, nan, fmt.Errorf("the store at c = %g is %g with slope %g; a store must be finite and increase with the concentration", c, q, dq)
+	f := si.f
+	q0 := si.q0
+	lo, hi := math.Inf(-1), math.Inf(1)
+	qlo, qhi := math.Inf(-1), math.Inf(1)
+	if finite(q0) {
+		if u == q0 {
+			_, dq := f(0)
+			return 0, dq, nil
+		}
+		if u > q0 {
+			lo, qlo = 0, q0
+		} else {
+			hi, qhi = 0, q0
+		}
+	}
+	badSlope, badAt := 1.0, 0.0
+	// usable tells whether the store may be taken at c with value q and
+	// slope dq: finite, increasing, and ordered like c against the bracket.
+	usable := func(c, q, dq float64) bool {
+		if !finite(q) || !finite(dq) {
+			return false
+		}
+		if dq <= 0 {
+			if badSlope > 0 {
+				badSlope, badAt = dq, c
+			}
+			return false
+		}
+		return (c <= lo) == (q <= qlo) && (c >= hi) == (q >= qhi)
+	}
+	// Starting point: the guess, the linearisation about 0, or 0.
+	c := math.NaN()
+	var q, dq float64
+	for _, g := range [3]float64{guess, si.cold(u), 0} {
+		if !(g >= lo && g <= hi) || g == 0 && !finite(q0) {
+			continue
+		}
+		if gq, gdq := f(g); usable(g, gq, gdq) {
+			c, q, dq = g, gq, gdq
+			break
+		}
+	}
+	if math.IsNaN(c) {
+		if badSlope <= 0 {
+			return nan, nan, fmt.Errorf("the store does not increase with the concentration (slope %g at c = %g), so the concentration holding %g cannot be found", badSlope, badAt, u)
+		}
+		return nan, nan, fmt.Errorf("the store cannot be evaluated near the concentration that holds %g", u)
 	}
 	for range maxStoreIter {
 		r := q - u
 		if r == 0 {
 			return c, dq, nil
 		}
-		step := r / dq
-		if math.Abs(step) <= 1e-14*math.Abs(c) || math.Abs(step) < 1e-300 {
-			return c - step, dq, nil
+		if r > 0 {
+			hi, qhi = c, q
+		} else {
+			lo, qlo = c, q
 		}
-		lam := 1.0
-		badSlope, badAt := 1.0, 0.0
-		for {
-			cn := c - lam*step
+		step := r / dq
+		cn := c - step
+		if math.Abs(step) <= storeTol*math.Abs(c) || math.Abs(step) < 1e-300 {
+			// Newton converges quadratically: after a step of relative
+			// size δ the error is about (c q''/2q')·δ², far below
+			// round-off for δ ≤ 1e-9 and a store of moderate curvature.
+			if cn >= lo && cn <= hi {
+				return cn, dq, nil
+			}
+			return c, dq, nil
+		}
+		bracketed := !math.IsInf(lo, 0) && !math.IsInf(hi, 0)
+		if bracketed && !(cn > lo && cn < hi) {
+			// Regula falsi, or bisection when it lands at an end.
+			cn = lo + (u-qlo)*(hi-lo)/(qhi-qlo)
+			if !(cn > lo && cn < hi) {
+				cn = 0.5 * (lo + hi)
+			}
+		}
+		// Evaluate, moving back towards c while the point is not usable
+		// (or, without a bracket, while |q − u| does not decrease).
+		for k := 0; ; k++ {
 			qn, dqn := f(cn)
-			if finite(qn) && finite(dqn) && dqn > 0 && math.Abs(qn-u) < math.Abs(r) {
+			if usable(cn, qn, dqn) && (bracketed || math.Abs(qn-u) < math.Abs(r)) {
 				c, q, dq = cn, qn, dqn
 				break
 			}
-			if finite(qn) && finite(dqn) && dqn <= 0 && badSlope > 0 {
-				badSlope, badAt = dqn, cn
-			}
-			lam *= 0.5
-			if lam < 1e-12 {
+			if k >= 60 || cn == c {
 				if math.Abs(r) <= 1e-12*(math.Abs(u)+math.Abs(q)) {
 					return c, dq, nil // converged to round-off
 				}
@@ -109,17 +191,24 @@ func newtonStore(f StoreFunc, u, c float64) (float64, float64, error) {
 				}
 				return nan, nan, fmt.Errorf("no concentration holds the amount %g (the store reaches %g at c = %g and does not get closer)", u, q, c)
 			}
+			cn = 0.5 * (c + cn)
+		}
+		if bracketed && hi-lo <= 1e-15*math.Max(math.Abs(lo), math.Abs(hi)) {
+			return c, dq, nil // the bracket is exhausted
 		}
 	}
-	return nan, nan, fmt.Errorf("the concentration holding the amount %g was not found in %d Newton iterations", u, maxStoreIter)
+	return nan, nan, fmt.Errorf("the concentration holding the amount %g was not found in %d iterations", u, maxStoreIter)
 }
 
 // conc returns the concentrations of y: y itself without a nonlinear
-// store, otherwise e.c with the inverted cells (warm-started from the
-// previous evaluation) and e.dcdq = 1/q'(c) filled in.
+// store, otherwise e.c with the inverted cells and e.dcdq = 1/q'(c)
+// filled in. Each inversion starts from the previous evaluation's
+// solution moved along its tangent, c + (q − q_prev)/q'(c), which is
+// already a Newton step: when the amounts changed little one evaluation
+// of the store per cell suffices.
 func (e *evaluator) conc(y []float64) []float64 {
 	d := e.d
-	if !d.hasStore {
+	if !d.hasStore || e.cspace {
 		return y
 	}
 	c := e.c
@@ -131,17 +220,26 @@ func (e *evaluator) conc(y []float64) []float64 {
 			e.dcdq[k] = 1
 			continue
 		}
-		cold := y[k] / d.slope[k]
-		g := cold
-		if e.warm && finite(c[k]) {
-			g = c[k]
+		if e.warm && y[k] == e.u[k] && finite(c[k]) {
+			// The same amount as last time (Jac after QuadJac, Quad
+			// after Func): the same c and slope, so that the
+			// derivatives of one point agree exactly.
+			continue
 		}
-		v, slope, err := invertStore(st, y[k], g, cold)
+		inv := &d.inv[k]
+		g := inv.cold(y[k])
+		if e.warm {
+			if w := c[k] + (y[k]-e.u[k])*e.dcdq[k]; finite(w) {
+				g = w
+			}
+		}
+		v, slope, err := inv.invert(y[k], g)
 		if err != nil {
 			d.fail(&NonlinearError{Layer: d.Grid.Layer[k/d.ns], Species: k % d.ns, R: d.Grid.Centres[k/d.ns], Msg: err.Error()})
 			v, slope = nan, nan
 		}
 		c[k] = v
+		e.u[k] = y[k]
 		e.dcdq[k] = 1 / slope
 	}
 	copy(c[m:], y[m:])
@@ -164,7 +262,8 @@ func (d *Discretization) concOf(y []float64, cells []int) ([]float64, error) {
 			if st == nil {
 				continue
 			}
-			v, _, err := invertStore(st, y[k], y[k]/d.slope[k], y[k]/d.slope[k])
+			inv := &d.inv[k]
+			v, _, err := inv.invert(y[k], inv.cold(y[k]))
 			if err != nil {
 				e := &NonlinearError{Layer: d.Grid.Layer[i], Species: s, R: d.Grid.Centres[i], Msg: err.Error()}
 				d.fail(e)
@@ -667,7 +766,7 @@ func (e *evaluator) quadJac(t float64, y []float64, G []float64) {
 			}
 		}
 	}
-	if d.hasStore {
+	if d.hasStore && !e.cspace {
 		for k := 0; k < nc*ns; k++ {
 			if d.store[k] == nil {
 				continue

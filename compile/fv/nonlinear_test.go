@@ -276,3 +276,42 @@ func TestNonlinearNoAllocations(t *testing.T) {
 		})
 	}
 }
+
+// TestSteadyProblemJacobian checks the Jacobian of the problem SteadyState
+// solves (the concentrations as unknowns of every cell) against central
+// differences (common practice, no source).
+func TestSteadyProblemJacobian(t *testing.T) {
+	rng := rand.New(rand.NewPCG(17, 18))
+	for _, tc := range nonlinearCases() {
+		t.Run(tc.name, func(t *testing.T) {
+			d, err := Build(tc.spec)
+			if err != nil {
+				t.Fatal(err)
+			}
+			p := d.problem(true)
+			n := p.N
+			y := randomState(rng, n)
+			J := solvers.NewBand(n, p.Lower, p.Upper)
+			p.Jac(0.3, y, J)
+			scale := 0.0
+			for _, v := range J.Data {
+				scale = math.Max(scale, math.Abs(v))
+			}
+			fp, fm := make([]float64, n), make([]float64, n)
+			for j := 0; j < n; j++ {
+				h := 1e-6 * math.Max(1, math.Abs(y[j]))
+				y0 := y[j]
+				y[j] = y0 + h
+				p.Func(0.3, y, fp)
+				y[j] = y0 - h
+				p.Func(0.3, y, fm)
+				y[j] = y0
+				for i := 0; i < n; i++ {
+					if fd := (fp[i] - fm[i]) / (2 * h); math.Abs(fd-J.At(i, j)) > 1e-6*scale {
+						t.Errorf("J[%d][%d] = %.10g, finite difference %.10g", i, j, J.At(i, j), fd)
+					}
+				}
+			}
+		})
+	}
+}

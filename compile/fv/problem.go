@@ -24,8 +24,11 @@ type evaluator struct {
 	rate, dRate []float64
 	// With a nonlinear store: the concentrations of the last evaluation
 	// (the warm start of the next inversion) and dc/dq per cell unknown.
-	c, dcdq []float64
-	warm    bool
+	c, dcdq, u []float64
+	warm       bool
+	// cspace makes the concentrations the unknowns of every cell (the
+	// store left out): the steady-state problem of SteadyState.
+	cspace bool
 	// With a variable diffusivity: scratch for the face values.
 	work *faceWork
 }
@@ -63,11 +66,16 @@ func (d *Discretization) BathIndex(s int) int {
 // the quadratures, with which the integrator keeps the ledger closed to
 // round-off (see solvers.Problem).
 func (d *Discretization) Problem() *solvers.Problem {
+	return d.problem(false)
+}
+
+func (d *Discretization) problem(cspace bool) *solvers.Problem {
 	e := &evaluator{
-		d:    d,
-		jIn:  make([]float64, d.ns),
-		jOut: make([]float64, d.ns),
-		rate: make([]float64, d.ns),
+		cspace: cspace,
+		d:      d,
+		jIn:    make([]float64, d.ns),
+		jOut:   make([]float64, d.ns),
+		rate:   make([]float64, d.ns),
 	}
 	if d.kin != nil {
 		e.dRate = make([]float64, d.ns*d.ns)
@@ -75,6 +83,7 @@ func (d *Discretization) Problem() *solvers.Problem {
 	if d.hasStore {
 		e.c = make([]float64, d.n)
 		e.dcdq = make([]float64, d.nc*d.ns)
+		e.u = make([]float64, d.nc*d.ns)
 	}
 	if d.varD {
 		e.work = newFaceWork(d.ns)
@@ -272,7 +281,7 @@ func (e *evaluator) jac(t float64, y []float64, J *solvers.Band) {
 	if d.varD {
 		e.varJacobian(t, c, J)
 	}
-	if d.hasStore {
+	if d.hasStore && !e.cspace {
 		e.scaleColumns(J)
 	}
 }

@@ -103,14 +103,17 @@ type Boundary struct {
 //
 // (plus Spec.Kinetics and Spec.ExtraSource), with ν = 0, 1, 2 for slab,
 // cylinder, sphere, and c the concentration that diffuses (in the pore
-// fluid, say) in mol/m³.
+// fluid, say) in mol/m³. Store replaces Capacity_i c_i by q_i(c_i) and
+// Diffusivity replaces D_i by D_i(r, c).
 type Layer struct {
 	// Outer is the outer coordinate of the layer, m.
 	Outer float64
 	// Cells is the number of cells; 0 chooses automatically (see Build).
 	// A layer needs at least 2 cells.
 	Cells int
-	// D is the diffusivity of each species, m²/s (> 0).
+	// D is the diffusivity of each species, m²/s (> 0); for a species
+	// with a Diffusivity function, a representative value (used only to
+	// share cells between layers).
 	D []float64
 	// Capacity is the accumulation factor of each species (porosity plus
 	// linear sorption, say); nil means 1 for every species.
@@ -181,7 +184,8 @@ type Spec struct {
 	// inner condition must be Symmetry.
 	InnerBC, OuterBC []Boundary
 	// Init gives the starting value of a species at position r; each cell
-	// starts at the cell average of Init. Nil means zero everywhere.
+	// starts at the cell average of Init (of the amount held q(Init) where
+	// the store is nonlinear). Nil means zero everywhere.
 	Init func(species int, r float64) float64
 	// Cluster sets how strongly cells shrink toward faces with steep
 	// gradients (see Build): without the uniform share of cells it would be

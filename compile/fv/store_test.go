@@ -278,3 +278,104 @@ func TestEquilibriumWithBath(t *testing.T) {
 		t.Error("EquilibriumWithBath without a bath gave no error")
 	}
 }
+
+// TestSteadyStateWithStore: at steady state nothing accumulates, so a
+// store drops out (source: the balance with ∂q/∂t = 0; common practice,
+// no source). SteadyState with a Langmuir store and a concentration-
+// dependent diffusivity, started from an empty body, must give the
+// concentrations of the same problem without the store, and amounts held
+// q(c); Newton's method on the amounts held alone does not converge from
+// there (the store flattens and steps overshoot), which is why SteadyState
+// solves for the concentrations.
+func TestSteadyStateWithStore(t *testing.T) {
+	mk := func(store bool) *Discretization {
+		ly := Layer{Outer: 1e-3, D: []float64{1e-9}, Rate: [][]float64{{-1e-3}},
+			Diffusivity: []DiffusivityFunc{expD(1e-9, 0.7, 0, 0)}}
+		if store {
+			ly.Store = []StoreFunc{langmuir(0.4, 10, 2)}
+		}
+		d, err := Build(&Spec{Geometry: Slab, NSpecies: 1, Layers: []Layer{ly},
+			OuterBC: []Boundary{{Kind: Fixed, Value: constant(2)}}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return d
+	}
+	plain, stored := mk(false), mk(true)
+	yp, err := plain.SteadyState(0, plain.Y0(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ys, err := stored.SteadyState(0, stored.Y0(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cp, _ := plain.CellValues(yp, 0)
+	cs, _ := stored.CellValues(ys, 0)
+	st := langmuir(0.4, 10, 2)
+	for i := range cp {
+		if math.Abs(cp[i]-cs[i]) > 1e-12*math.Abs(cp[i]) {
+			t.Errorf("cell %d: %.15g without the store, %.15g with it", i, cp[i], cs[i])
+		}
+		if q, _ := st(cs[i]); math.Abs(ys[i]-q) > 1e-14*q {
+			t.Errorf("cell %d: amount held %g, q(c) = %g", i, ys[i], q)
+		}
+	}
+	// The steady state is a zero of the Problem's Func.
+	f := make([]float64, len(ys))
+	stored.Problem().Func(0, ys, f)
+	for i, v := range f {
+		if math.Abs(v) > 1e-9 {
+			t.Errorf("Func at the steady state: f[%d] = %g", i, v)
+		}
+	}
+}
+
+// TestStoreInversion: the scalar inversion q(c) = u finds the root on the
+// branch that contains c = 0 whatever the starting guess — a Langmuir
+// store has a pole at c = −1/K beyond which it holds every amount again —
+// for concave and convex stores, small negative amounts included, and
+// reports a store that does not increase (source: the closed-form inverse
+// of ε c + Q K c/(1 + K c), a quadratic in c; common practice, no source).
+func TestStoreInversion(t *testing.T) {
+	const eps, Q, K = 0.4, 10.0, 2.0
+	exact := func(u float64) float64 {
+		// ε K c² + (ε + Q K − u K) c − u = 0, the root above −1/K,
+		// written without cancellation: c = 2u/(b + √(b² + 4 ε K u)).
+		b := eps + Q*K - u*K
+		if b > 0 {
+			return 2 * u / (b + math.Sqrt(b*b+4*eps*K*u))
+		}
+		return (-b + math.Sqrt(b*b+4*eps*K*u)) / (2 * eps * K)
+	}
+	lang := storeInverse{f: langmuir(eps, Q, K), q0: 0, slope: 1}
+	for _, u := range []float64{-1e-6, -0.5, 0, 1e-9, 0.3, 7.74, 40, 1e4} {
+		// Starting points an integration can produce: on the branch
+		// of c = 0 (below −1/K a start may sit on the other branch,
+		// and no test of the store at a few points can tell).
+		for _, g := range []float64{-0.49, -0.01, 0, 0.01, 1, 7.74, 100, 1e6} {
+			c, dq, err := lang.invert(u, g)
+			if err != nil {
+				t.Errorf("u = %g from %g: %v", u, g, err)
+				continue
+			}
+			if w := exact(u); math.Abs(c-w) > 1e-12*math.Max(math.Abs(w), 1e-9) {
+				t.Errorf("u = %g from %g: c = %.15g, want %.15g", u, g, c, w)
+			}
+			if _, want := langmuir(eps, Q, K)(c); math.Abs(dq-want) > 1e-6*want {
+				t.Errorf("u = %g from %g: slope %g, want %g", u, g, dq, want)
+			}
+		}
+	}
+	convex := storeInverse{f: func(c float64) (float64, float64) { return c + c*c*c, 1 + 3*c*c }, q0: 0, slope: 1}
+	for _, u := range []float64{-2, 0.5, 30, 1e6} {
+		c, _, err := convex.invert(u, 0.7)
+		if err != nil || math.Abs(c+c*c*c-u) > 1e-12*math.Abs(u) {
+			t.Errorf("convex store, u = %g: c = %g (%v)", u, c, err)
+		}
+	}
+	bad := storeInverse{f: func(c float64) (float64, float64) { return c - c*c, 1 - 2*c }, q0: 0, slope: 1}
+	if _, _, err := bad.invert(0.3, 0.1); err == nil || !strings.Contains(err.Error(), "increase") {
+		t.Errorf("a store that cannot hold 0.3: err = %v", err)
+	}
+}
