@@ -32,6 +32,8 @@ type bodySolution struct {
 	// then Richardson-extrapolated.
 	coarse *bodySolution
 	peak   map[int]float64 // cache of peakContent
+	// set are the settings used, with the grid chosen by resolveGrid.
+	set compile.Settings
 }
 
 // at returns the index of time t in times (which contains it).
@@ -145,6 +147,11 @@ func solveBody(ctx context.Context, m *compile.Model, b *compile.Body, set compi
 		times, _ = outputTimes(m)
 	}
 	for k, st := range stages {
+		if k == 0 {
+			// Choose the grid once: every stage must use the same cells.
+			set, sol.notes = resolveGrid(m, b, st.conds, set, sol.notes)
+			sol.set = set
+		}
 		low, err := compile.Lower(m, b, st.conds, set)
 		if err != nil {
 			return nil, &Error{Where: b.Def, Msg: "body " + b.Name + ": " + err.Error(), Err: err}
@@ -359,4 +366,74 @@ func (s *bodySolution) bathEquilibrium(y []float64, si int, st stagePlan) float6
 func outerSide(b *compile.Body) string {
 	names := compile.Boundaries(b.Shape)
 	return names[len(names)-1]
+}
+
+// resolveGrid makes the default grid fine enough at the faces for the
+// thinnest boundary layer the model will form: √(D/k) for a first-order
+// consumption k, and √(D·t₁) at the first output time t₁. When the user
+// set neither cells nor cluster and the cell at a face is wider than a
+// third of that thickness, the clustering and then the number of cells
+// are raised (up to 10⁴ and 640); a note says so, or says that the grid
+// may still be too coarse. Layers that are too thin for their own reasons
+// are not examined (common practice, no source: three cells across a
+// boundary layer).
+func resolveGrid(m *compile.Model, b *compile.Body, conds map[string]map[int]*compile.Condition, set compile.Settings, notes []string) (compile.Settings, []string) {
+	if set.Cells != 0 || set.Cluster != 0 {
+		return set, notes
+	}
+	low, err := compile.Lower(m, b, conds, set)
+	if err != nil {
+		return set, notes
+	}
+	delta := math.Inf(1)
+	t1 := 0.0
+	if !m.Run.Steady && len(m.Run.Times) > 1 {
+		t1 = m.Run.Times[1]
+	}
+	for _, l := range low.Spec.Layers {
+		for k, D := range l.D {
+			if t1 > 0 {
+				delta = math.Min(delta, math.Sqrt(D*t1))
+			}
+			if l.Rate != nil && l.Rate[k][k] < 0 {
+				delta = math.Min(delta, math.Sqrt(D/-l.Rate[k][k]))
+			}
+		}
+	}
+	if math.IsInf(delta, 1) {
+		return set, notes
+	}
+	faceCell := func(s compile.Settings) float64 {
+		l, err := compile.Lower(m, b, conds, s)
+		if err != nil {
+			return 0
+		}
+		d, err := fv.Build(l.Spec)
+		if err != nil {
+			return 0
+		}
+		f := d.Grid.Faces
+		return math.Max(f[1]-f[0], f[len(f)-1]-f[len(f)-2])
+	}
+	try := set
+	h := faceCell(try)
+	if h <= delta/3 || h == 0 {
+		return set, notes
+	}
+	try.Cluster = fv.DefaultCluster
+	for h > delta/3 && try.Cluster < 1e4 {
+		try.Cluster = math.Min(1e4, try.Cluster*4)
+		h = faceCell(try)
+	}
+	try.Cells = fv.DefaultCells
+	for h > delta/3 && try.Cells < 640 {
+		try.Cells *= 2
+		h = faceCell(try)
+	}
+	if h > delta/3 {
+		notes = append(notes, fmt.Sprintf("body %s: the cell at the face (%.3g m) is wider than a third of the thinnest boundary layer (about %.3g m), even on the refined grid (cluster %g, %d cells); check the accuracy with settings { estimate = on }", b.Name, h, delta, try.Cluster, try.Cells))
+	} else {
+		notes = append(notes, fmt.Sprintf("body %s: grid refined for a boundary layer about %.3g m thick (cluster %g, %d cells)", b.Name, delta, try.Cluster, max(try.Cells, fv.DefaultCells)))
+	}
+	return try, notes
 }

@@ -68,6 +68,9 @@ func replaceNonFinite(r *Result) map[string]any {
 	}
 	out := map[string]any{"model": r.Model, "times_s": fix(r.Times), "series": series, "profiles": profiles,
 		"solver": r.Solver, "ledger": ledger, "caution": r.Caution}
+	if len(r.Notes) > 0 {
+		out["notes"] = r.Notes
+	}
 	if len(r.Estimates) > 0 {
 		var est []map[string]any
 		for _, e := range r.Estimates {
@@ -129,7 +132,7 @@ func (r *Result) String() string {
 		case "table":
 			b.WriteString(o.Table.Text())
 			b.WriteByte('\n')
-		case "text":
+		case "text", "note":
 			b.WriteString(o.Text)
 		case "value":
 			b.WriteString(o.Text + "\n")

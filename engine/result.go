@@ -27,6 +27,9 @@ type Result struct {
 	// combination of values for nested sweeps).
 	Sweeps  []SweepTable `json:"sweeps,omitempty"`
 	Caution string       `json:"caution"`
+	// Notes are warnings about the run (a grid refined or possibly too
+	// coarse, an undefined uptake fraction).
+	Notes []string `json:"notes,omitempty"`
 
 	// Outputs are the rendered outputs in the order the model asked for
 	// them (tables, plots, printed text); not part of the JSON.

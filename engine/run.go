@@ -158,7 +158,7 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 		}
 		addStats(&res.Solver, sol)
 		if (extrapolate || estimate) && !m.Run.Steady {
-			coarse := set
+			coarse := sol.set
 			coarse.Cells = max(3, sol.cells/2)
 			c, err := solveBody(ctx, m, b, coarse)
 			if err != nil {
@@ -167,7 +167,7 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 			addStats(&res.Solver, c)
 			var tight *bodySolution
 			if estimate {
-				ts := set
+				ts := sol.set
 				ts.RTol = set.RTol / 100
 				ts.Cells = sol.cells
 				if tight, err = solveBody(ctx, m, b, ts); err != nil {
@@ -184,6 +184,12 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 		sols[b.Name] = sol
 	}
 	res.Solver.WallSeconds = res.Solver.wall.Seconds()
+	for _, b := range m.Bodies {
+		for _, n := range sols[b.Name].notes {
+			res.Notes = append(res.Notes, n)
+			res.Outputs = append(res.Outputs, Output{Kind: "note", Text: "Note: " + n + "\n"})
+		}
+	}
 	if !m.Run.Steady {
 		res.Times = append([]float64(nil), m.Run.Times...)
 	}

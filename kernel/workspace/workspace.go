@@ -107,6 +107,8 @@ func (w *Workspace) Execute(ctx context.Context, code string, sink kernel.Sink) 
 		switch o.Kind {
 		case "text":
 			sink.Stream("stdout", o.Text)
+		case "note":
+			sink.Stream("stderr", o.Text)
 		case "value":
 			result = kernel.Bundle{"text/plain": o.Text, "application/json": map[string]any{"value_si": finite([]float64{o.Value})[0], "unit_si": o.Unit}}
 		default:
