@@ -80,7 +80,8 @@ func formatQuantity(v float64, d interface{ String() string }, unit string) stri
 
 func expect(m *compile.Model, e *compile.Expect, sols map[string]*bodySolution) Check {
 	got := scalarResult(m, e.Subject, e.At, sols)
-	c := Check{Where: e.Def, Text: e.Text, Got: got, Want: e.Value, Tol: e.Tol, Relative: e.Relative, Unit: unitOf(e.Subject.Dim)}
+	c := Check{Where: e.Def, Text: e.Text, Got: got, Want: e.Value, Tol: e.Tol, Relative: e.Relative, Unit: unitOf(e.Subject.Dim),
+		ShownUnit: e.Unit, ShownScale: e.Scale}
 	diff := math.Abs(got - e.Value)
 	if e.Relative {
 		c.Passed = diff <= e.Tol*math.Abs(e.Value)
@@ -112,23 +113,35 @@ func scalarResult(m *compile.Model, r *compile.Result, at float64, sols map[stri
 	return s.value(r.Kind, r.Species, s.at(at))
 }
 
+// checksTable lists the expectations: one row each, in the unit the
+// expected value was written in.
 func checksTable(cs []Check) *report.Table {
-	t := &report.Table{Title: "Checks (expect statements)", Columns: []report.Column{{Name: "computed"}, {Name: "expected"}, {Name: "tolerance"}, {Name: "passed (1 = yes)"}}}
+	t := &report.Table{Title: "Checks (expect statements)", Columns: []report.Column{{Name: "check"}, {Name: "computed"}, {Name: "expected"}, {Name: "passed (1 = yes)"}}}
 	for i, c := range cs {
 		pass := 0.0
 		if c.Passed {
 			pass = 1
 		}
-		t.Rows = append(t.Rows, []float64{c.Got, c.Want, c.Tol, pass})
+		scale, unit := 1.0, c.Unit
+		if c.ShownUnit != "" && c.ShownScale > 0 {
+			scale, unit = c.ShownScale, c.ShownUnit
+		}
+		t.Rows = append(t.Rows, []float64{float64(i + 1), c.Got / scale, c.Want / scale, pass})
 		status := "FAILED"
 		if c.Passed {
 			status = "passed"
 		}
-		tol := report.FormatNumber(c.Tol, 3)
+		tol := report.FormatNumber(c.Tol/scale, 3)
 		if c.Relative {
 			tol = report.FormatNumber(c.Tol*100, 3) + " %"
+		} else if unit != "" && unit != "1" {
+			tol += " " + unit
 		}
-		t.Notes = append(t.Notes, fmt.Sprintf("%d. %s — %s (computed %s %s, tolerance %s)", i+1, c.Text, status, report.FormatNumber(c.Got, 6), c.Unit, tol))
+		got := report.FormatNumber(c.Got/scale, 6)
+		if unit != "" && unit != "1" {
+			got += " " + unit
+		}
+		t.Notes = append(t.Notes, fmt.Sprintf("%d. %s — %s (computed %s, tolerance %s)", i+1, c.Text, status, got, tol))
 	}
 	return t
 }

@@ -103,6 +103,10 @@ type Check struct {
 	Relative bool       `json:"relative"`
 	Unit     string     `json:"unit"`
 	Passed   bool       `json:"passed"`
+	// ShownUnit and ShownScale are the unit the expected value was written
+	// in and its size in SI, for reports.
+	ShownUnit  string  `json:"-"`
+	ShownScale float64 `json:"-"`
 }
 
 // Scalar is a single computed number (a time to a fraction, an

@@ -38,7 +38,27 @@ func outputTimeUnit(times []float64) displayUnit {
 			return u
 		}
 	}
-	return timeUnit(maxOf(times))
+	// Not whole in any unit (log-spaced times): the largest unit in which
+	// the first positive time is at least 0.1.
+	first := 0.0
+	for _, t := range times {
+		if t > 0 {
+			first = t
+			break
+		}
+	}
+	u := timeUnit(maxOf(times))
+	for first > 0 && first/u.Scale < 0.1 && u.Scale > 1 {
+		switch u.Scale {
+		case 86400:
+			u = displayUnit{"h", 3600}
+		case 3600:
+			u = displayUnit{"min", 60}
+		default:
+			u = displayUnit{"s", 1}
+		}
+	}
+	return u
 }
 
 func timeUnit(maxT float64) displayUnit {
@@ -76,7 +96,7 @@ func show(m *compile.Model, sh *compile.Show, sols map[string]*bodySolution, res
 		case "time_to", "effectiveness":
 			out = append(out, scalarOutput(m, it, sols, res))
 		case "ledger":
-			out = append(out, Output{Kind: "table", Table: ledgerTable(res.Ledger)})
+			out = append(out, ledgerTables(res.Ledger)...)
 		default:
 			if m.Run.Steady {
 				out = append(out, scalarOutput(m, it, sols, res))
@@ -143,7 +163,11 @@ func seriesOutputs(m *compile.Model, items []*compile.Result, scale string, sols
 		g := groups[k]
 		p := &report.Plot{X: report.Axis{Label: "time", Unit: tu.Name, Scale: xs}}
 		label := kindLabel[g[0].Kind]
-		if len(g) > 1 {
+		sameKind := true
+		for _, it := range g {
+			sameKind = sameKind && it.Kind == g[0].Kind
+		}
+		if len(g) > 1 && !sameKind {
 			label = "value"
 			if g[0].Dim == units.Concentration {
 				label = "concentration"
@@ -158,6 +182,12 @@ func seriesOutputs(m *compile.Model, items []*compile.Result, scale string, sols
 			var x, y []float64
 			for i, tt := range s.times {
 				if xs == report.Log && tt <= 0 {
+					continue
+				}
+				if it.Kind == "flux" && tt == 0 {
+					// The flux at the first instant of a sudden change at
+					// the surface is unbounded in theory and only a grid
+					// artefact in numbers; leave it out of the plot.
 					continue
 				}
 				x = append(x, tt/tu.Scale)
@@ -180,7 +210,7 @@ func profileOutputs(m *compile.Model, it *compile.Result, at []float64, sols map
 	name := speciesLabel(m, it)
 	if m.Run.Steady {
 		r, c := s.disc.Profile(0, s.steady, it.Species)
-		p := &report.Plot{Title: "steady profile of " + name, X: report.Axis{Label: "position r", Unit: lu.Name}, Y: report.Axis{Label: "concentration", Unit: "mol/m^3"}}
+		p := &report.Plot{Title: "steady profile of " + name, X: report.Axis{Label: posLabel(s.body), Unit: lu.Name}, Y: report.Axis{Label: "concentration", Unit: "mol/m^3"}}
 		p.Series = append(p.Series, report.Series{Name: "steady state", X: scaled(r, lu.Scale), Y: c})
 		return []Output{{Kind: "plot", Plot: p}}
 	}
@@ -190,7 +220,7 @@ func profileOutputs(m *compile.Model, it *compile.Result, at []float64, sols map
 		at = profileTimes(m)
 	}
 	p := &report.Plot{Title: "profiles of " + name, Ordered: true,
-		X: report.Axis{Label: "position r", Unit: lu.Name}, Y: report.Axis{Label: "concentration", Unit: "mol/m^3"}}
+		X: report.Axis{Label: posLabel(s.body), Unit: lu.Name}, Y: report.Axis{Label: "concentration", Unit: "mol/m^3"}}
 	for _, tt := range at {
 		i := s.at(tt)
 		r, c := s.disc.Profile(s.times[i], s.ys[i], it.Species)
@@ -205,11 +235,10 @@ func mapOutput(m *compile.Model, it *compile.Result, sols map[string]*bodySoluti
 	lu := lengthUnit(s.body.Outer)
 	tu := timeUnit(m.Run.Until)
 	mp := &report.Map{Title: "concentration of " + speciesLabel(m, it) + " over position and time",
-		X: report.Axis{Label: "time", Unit: tu.Name}, Y: report.Axis{Label: "position r", Unit: lu.Name},
+		X: report.Axis{Label: "time", Unit: tu.Name}, Y: report.Axis{Label: posLabel(s.body), Unit: lu.Name},
 		ZLabel: "concentration", ZUnit: "mol/m^3"}
-	for _, tt := range m.Run.Times {
-		i := s.at(tt)
-		r, c := s.disc.Profile(s.times[i], s.ys[i], it.Species)
+	for i, tt := range s.times {
+		r, c := s.disc.Profile(tt, s.ys[i], it.Species)
 		if mp.YValues == nil {
 			mp.YValues = scaled(r, lu.Scale)
 		}
@@ -245,14 +274,25 @@ func scalarOutput(m *compile.Model, it *compile.Result, sols map[string]*bodySol
 	return Output{Kind: "table", Table: t}
 }
 
-func ledgerTable(ls []Ledger) *report.Table {
-	t := &report.Table{Title: "Mass ledger: initial + inflow − consumed = final",
-		Columns: []report.Column{{Name: "initial"}, {Name: "inflow"}, {Name: "consumed"}, {Name: "final"}, {Name: "closure (relative)"}}}
+// ledgerTables shows the mass ledger, one table per species and body.
+func ledgerTables(ls []Ledger) []Output {
+	var out []Output
 	for _, l := range ls {
+		t := &report.Table{Title: fmt.Sprintf("Mass ledger of %s in %s: initial + inflow − consumed = final", l.Species, l.Body),
+			Columns: []report.Column{{Name: "initial", Unit: l.Unit}, {Name: "inflow", Unit: l.Unit}, {Name: "consumed", Unit: l.Unit},
+				{Name: "final", Unit: l.Unit}, {Name: "closure (relative)"}}}
 		t.Rows = append(t.Rows, []float64{l.Initial, l.Inflow, l.Consumed, l.Final, l.Closure})
-		t.Notes = append(t.Notes, fmt.Sprintf("%s in %s, amounts in %s", l.Species, l.Body, l.Unit))
+		out = append(out, Output{Kind: "table", Table: t})
 	}
-	return t
+	return out
+}
+
+// posLabel names the diffusion coordinate of a body.
+func posLabel(b *compile.Body) string {
+	if b.Shape == compile.Slab {
+		return "distance from mid-plane x"
+	}
+	return "position r"
 }
 
 func scaled(v []float64, s float64) []float64 {
