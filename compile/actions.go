@@ -563,11 +563,15 @@ func (c *checker) fit(s *dsl.Fit, f *dsl.File) Action {
 			c.diags.Add("fit", col.Target.Span(), "a fit compares time series; %s(...) is not one", r.Kind)
 			return nil
 		}
-		if r.Dim != u.Dim {
+		scale := u.Scale
+		if u.Dim == units.MassConcentration && r.Dim == units.Concentration && r.Species >= 0 && c.m.Species[r.Species].MolarMass > 0 {
+			// A column in mg/L converts with the species' molar mass.
+			scale /= c.m.Species[r.Species].MolarMass
+		} else if r.Dim != u.Dim {
 			c.diags.Add("dimension", col.Column.Range, "column %q holds %s, but %s(...) is %s", col.Column.Value, u.Dim.Describe(), r.Kind, r.Dim.Describe())
 			return nil
 		}
-		ft.Series = append(ft.Series, FitSeries{Result: r, Column: Column{Name: col.Column.Value, Scale: u.Scale}})
+		ft.Series = append(ft.Series, FitSeries{Result: r, Column: Column{Name: col.Column.Value, Scale: scale}})
 	}
 	if ft.Time.Name == "" {
 		c.diags.Add("fit", s.Range, "say which column holds the time: time = \"t\"")
@@ -608,6 +612,12 @@ func firstRecord(r io.Reader) ([]string, error) {
 	rec, err := cr.Read()
 	if err != nil {
 		return nil, fmt.Errorf("no header line: %v", err)
+	}
+	if len(rec) > 0 {
+		rec[0] = strings.TrimPrefix(rec[0], "\ufeff") // a byte-order mark from a spreadsheet export
+	}
+	if len(rec) == 1 && strings.Contains(rec[0], ";") {
+		return nil, fmt.Errorf("the file is not comma-separated (its header uses ';'); save it as CSV with commas")
 	}
 	return rec, nil
 }

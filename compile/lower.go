@@ -95,9 +95,19 @@ func Lower(m *Model, b *Body, conds map[string]map[int]*Condition, set Settings)
 			}
 			layer.Capacity[k] = 1
 			if bal.Store != nil {
-				a, ok := bal.Store.AffineIn(len(m.Species))
-				if !ok {
-					st, slope, err := lowerStore(m, b, r, si, bal.Store, conds)
+				if a, ok := bal.Store.AffineIn(len(m.Species)); ok {
+					// A linear store: porosity plus linear sorption.
+					for j, c := range a.Coef {
+						if j != si && c != 0 {
+							return nil, &UnsupportedError{What: fmt.Sprintf("the store of %s in %s depends on another species", sp.Name, r.Name)}
+						}
+					}
+					if a.Coef[si] <= 0 {
+						return nil, fmt.Errorf("the store of %s in %s must grow with %s (its slope is %g)", sp.Name, r.Name, sp.Name, a.Coef[si])
+					}
+					layer.Capacity[k] = a.Coef[si]
+				} else {
+					st, slope, err := lowerStore(m, r, si, bal.Store, conds)
 					if err != nil {
 						return nil, err
 					}
@@ -106,17 +116,6 @@ func Lower(m *Model, b *Body, conds map[string]map[int]*Condition, set Settings)
 					}
 					layer.Store[k] = st
 					layer.Capacity[k] = slope
-				}
-				for j, c := range a.Coef {
-					if j != si && c != 0 {
-						return nil, &UnsupportedError{What: fmt.Sprintf("the store of %s in %s depends on another species", sp.Name, r.Name)}
-					}
-				}
-				if ok && a.Coef[si] <= 0 {
-					return nil, fmt.Errorf("the store of %s in %s must grow with %s (its slope is %g)", sp.Name, r.Name, sp.Name, a.Coef[si])
-				}
-				if ok {
-					layer.Capacity[k] = a.Coef[si]
 				}
 			}
 			layer.Rate[k] = make([]float64, ns)
@@ -337,7 +336,7 @@ func newExprFunc(e *Expr, nmodel int) *exprFunc {
 // discretisation's cell sharing and starting guesses. It refuses a store
 // that reads position, time or another species, and one that does not
 // increase over that range.
-func lowerStore(m *Model, b *Body, r *Region, si int, e *Expr, conds map[string]map[int]*Condition) (fv.StoreFunc, float64, error) {
+func lowerStore(m *Model, r *Region, si int, e *Expr, conds map[string]map[int]*Condition) (fv.StoreFunc, float64, error) {
 	sp := m.Species[si]
 	nm := len(m.Species)
 	deps := e.Depends(nm)
@@ -357,6 +356,9 @@ func lowerStore(m *Model, b *Body, r *Region, si int, e *Expr, conds map[string]
 	for i := 0; i <= samples; i++ {
 		c := lo + (hi-lo)*float64(i)/samples
 		q, dq := st(c)
+		if math.IsInf(dq, 1) && !math.IsInf(q, 0) {
+			return nil, 0, &UnsupportedError{What: fmt.Sprintf("the store of %s in %s has an infinite slope at %s = %g mol/m^3 (as c^n with n < 1 has at 0), and the solver needs a finite one to recover the concentration from the amount held", sp.Name, r.Name, sp.Name, c)}
+		}
 		if math.IsNaN(q) || math.IsInf(q, 0) || math.IsNaN(dq) || math.IsInf(dq, 0) {
 			return nil, 0, fmt.Errorf("the store of %s in %s cannot be evaluated at %s = %g mol/m^3 (it gives %g with slope %g)", sp.Name, r.Name, sp.Name, c, q, dq)
 		}

@@ -189,6 +189,7 @@ run until 10 [s]
 		{"position", `balance s in b { store = s * (1 + s / 1 [mol/m^3]) * (1 + r / 1 [mm]) }`, true, "depends on position"},
 		{"other species", `balance s in b { store = s + s * u / 1 [mol/m^3] }`, true, "depends on another species (u)"},
 		{"decreasing", `balance s in b { store = s - 0.8 * s * s / 1 [mol/m^3] }`, false, "must grow with s: its slope is"},
+		{"infinite slope", `balance s in b { store = 2 [mol/m^3] * pow(s / 1 [mol/m^3], 0.5) }`, true, "infinite slope at s = 0"},
 		{"diffusivity of an absent species", `balance u in b { diffusivity = 1e-9 [m^2/s] * (1 + s / 1 [mol/m^3]) }`, false, "reads s, which has no balance in b"},
 	}
 	for _, tc := range cases {

@@ -61,6 +61,7 @@ func columnName(h string) (name, unit string) {
 
 // parseFitData parses the CSV text b of the file named file.
 func parseFitData(file string, b []byte, f *compile.Fit) (*fitData, error) {
+	b = bytes.TrimPrefix(b, []byte("\xef\xbb\xbf")) // a byte-order mark from a spreadsheet export
 	cr := csv.NewReader(bytes.NewReader(b))
 	cr.Comment = '#'
 	cr.FieldsPerRecord = -1
@@ -71,6 +72,9 @@ func parseFitData(file string, b []byte, f *compile.Fit) (*fitData, error) {
 			return nil, fmt.Errorf("%s is empty: it needs a header line such as \"t [min],F [1]\" and data", file)
 		}
 		return nil, fmt.Errorf("%s: %v", file, err)
+	}
+	if len(header) == 1 && strings.Contains(header[0], ";") {
+		return nil, fmt.Errorf("%s is not comma-separated (its header uses ';'); save it as CSV with commas", file)
 	}
 	index := map[string]int{}
 	colUnits := map[string]string{}
@@ -133,6 +137,15 @@ func parseFitData(file string, b []byte, f *compile.Fit) (*fitData, error) {
 		}
 		if blank {
 			continue
+		}
+		if len(rec) > len(header) {
+			extra := false
+			for _, c := range rec[len(header):] {
+				extra = extra || strings.TrimSpace(c) != ""
+			}
+			if extra {
+				return nil, fmt.Errorf("%s, line %d: %d cells, but the header names %d columns", file, line, len(rec), len(header))
+			}
 		}
 		tv, ok, err := cell(rec, ti, line, f.Time.Name)
 		if err != nil {
@@ -446,6 +459,22 @@ func runFit(ctx context.Context, m *compile.Model, a *compile.Fit, opts *Options
 			line += " — the interval reaches beyond the bounds: the data determine " + p.Name + " only weakly, and the linearised interval is a rough guide"
 		}
 		pt.Notes = append(pt.Notes, line)
+	}
+	// A quantity the data hardly depend on at the fitted value (a full
+	// change of it moves the model by less than 0.1 % of the data's range)
+	// is not determined by the fit; say so, since the optimiser then stops
+	// where it started.
+	if J := fitRes.Jacobian; J != nil && fitRes.M > 0 {
+		for j, p := range a.Params {
+			norm := 0.0
+			for i := 0; i < fitRes.M; i++ {
+				v := J[i*n+j] * x[j]
+				norm += v * v
+			}
+			if math.Sqrt(norm) < 1e-3 {
+				pt.Notes = append(pt.Notes, fmt.Sprintf("WARNING: near %s the model hardly responds to %s (the results at the data times barely change with it); the fit cannot determine it from there — try another starting value", pu[j].format(x[j]), p.Name))
+			}
+		}
 	}
 	if fitRes.Covariance == nil {
 		pt.Notes = append(pt.Notes, "No confidence intervals: these data cannot tell the fitted quantities apart (the sensitivity matrix has not full rank), or there are no more values than quantities.")

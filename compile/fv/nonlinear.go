@@ -310,24 +310,24 @@ func newFaceWork(ns int) *faceWork {
 // evalD evaluates a variable diffusivity at position r and the
 // concentrations vals, with ∂D/∂vals into g when it is not nil. ok is false
 // (and D NaN) when D is not positive and finite; the error is recorded
-// against cell.
-func (d *Discretization) evalD(df DiffusivityFunc, r float64, vals, g []float64, cell int) (float64, bool) {
+// against the cell and the species.
+func (d *Discretization) evalD(df DiffusivityFunc, r float64, vals, g []float64, cell, species int) (float64, bool) {
 	if g != nil {
 		clear(g)
 	}
 	D := df(r, vals, g)
 	if !(D > 0) || math.IsInf(D, 0) {
-		d.failD(cell, r, D)
+		d.failD(cell, species, r, D)
 		return nan, false
 	}
 	return D, true
 }
 
-func (d *Discretization) failD(cell int, r, D float64) {
+func (d *Discretization) failD(cell, species int, r, D float64) {
 	if d.evalErr.Load() != nil {
 		return
 	}
-	d.fail(&NonlinearError{Layer: d.Grid.Layer[cell], Species: -1, R: r,
+	d.fail(&NonlinearError{Layer: d.Grid.Layer[cell], Species: species, R: r,
 		Msg: fmt.Sprintf("the diffusivity is %g; it must be positive and finite", D)})
 }
 
@@ -365,7 +365,7 @@ func (d *Discretization) bndD(b *bnd, t float64, c []float64, w *faceWork, grad 
 			w.gb[ns+1] = b.kp
 		}
 	case b.kind == Film || b.kind == Bath:
-		D1, ok := d.evalD(b.df, b.rb, cell, g1, ci)
+		D1, ok := d.evalD(b.df, b.rb, cell, g1, ci, own)
 		if !ok {
 			return nan, false
 		}
@@ -390,14 +390,14 @@ func (d *Discretization) bndD(b *bnd, t float64, c []float64, w *faceWork, grad 
 			}
 		}
 	default: // Flux, Symmetry: the flux is given (outputs only)
-		D1, ok := d.evalD(b.df, b.rb, cell, nil, ci)
+		D1, ok := d.evalD(b.df, b.rb, cell, nil, ci, own)
 		if !ok {
 			return nan, false
 		}
 		s = b.b1*c[b.k1] + b.b2*c[b.k2] + b.b3*b.fluxD(t, c, D1)/D1
 	}
 	w.ch[own] = s
-	D, ok := d.evalD(b.df, b.rb, w.ch, g2, ci)
+	D, ok := d.evalD(b.df, b.rb, w.ch, g2, ci, own)
 	if !ok {
 		return nan, false
 	}
@@ -438,7 +438,7 @@ func (e *evaluator) faceD(f, s int, c, dD []float64) (float64, bool) {
 	for j := range ns {
 		ch[j] = th*l[j] + (1-th)*r[j]
 	}
-	return d.evalD(d.layers[d.Grid.Layer[f]].df[s], d.Grid.Faces[f], ch, dD, f)
+	return d.evalD(d.layers[d.Grid.Layer[f]].df[s], d.Grid.Faces[f], ch, dD, f, s)
 }
 
 // varP returns Σ_j fwg_j c_{f−2+j} for species s at a variable same-layer
@@ -505,7 +505,7 @@ func (d *Discretization) contactFluxW(f, s int, c []float64, w *faceWork, grad b
 	DL1, DR1 := lyL.d[s], lyR.d[s]
 	if dfL != nil {
 		var ok bool
-		if DL1, ok = d.evalD(dfL, rf, cellL, g1, f-1); !ok {
+		if DL1, ok = d.evalD(dfL, rf, cellL, g1, f-1, s); !ok {
 			return nan, false
 		}
 		if grad {
@@ -514,7 +514,7 @@ func (d *Discretization) contactFluxW(f, s int, c []float64, w *faceWork, grad b
 	}
 	if dfR != nil {
 		var ok bool
-		if DR1, ok = d.evalD(dfR, rf, cellR, g1, f); !ok {
+		if DR1, ok = d.evalD(dfR, rf, cellR, g1, f, s); !ok {
 			return nan, false
 		}
 		if grad {
@@ -541,7 +541,7 @@ func (d *Discretization) contactFluxW(f, s int, c []float64, w *faceWork, grad b
 			g2 = w.g2
 		}
 		var ok bool
-		if DL, ok = d.evalD(dfL, rf, w.ch, g2, f-1); !ok {
+		if DL, ok = d.evalD(dfL, rf, w.ch, g2, f-1, s); !ok {
 			return nan, false
 		}
 		if grad {
@@ -567,7 +567,7 @@ func (d *Discretization) contactFluxW(f, s int, c []float64, w *faceWork, grad b
 			g2 = w.g2
 		}
 		var ok bool
-		if DR, ok = d.evalD(dfR, rf, w.ch, g2, f); !ok {
+		if DR, ok = d.evalD(dfR, rf, w.ch, g2, f, s); !ok {
 			return nan, false
 		}
 		if grad {
