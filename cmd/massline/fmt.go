@@ -25,6 +25,11 @@ func cmdFmt(args []string, stdout, stderr io.Writer) int {
 	}
 	status := 0
 	for _, path := range fs.Args() {
+		if strings.HasSuffix(path, ".ipynb") {
+			fmt.Fprintf(stderr, "massline: %s: fmt formats model files (.mln), not notebooks\n", path)
+			status = 1
+			continue
+		}
 		src, err := os.ReadFile(path)
 		if err != nil {
 			fmt.Fprintf(stderr, "massline: %v\n", err)

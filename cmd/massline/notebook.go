@@ -108,7 +108,7 @@ func runNotebook(ctx context.Context, nf *notebookFlags, stdout, stderr io.Write
 		return 1
 	}
 	srcDir := filepath.Dir(nf.path)
-	sum, runErr := notebook.Execute(ctx, nb, &notebook.Options{Dir: srcDir, KeepGoing: nf.keepGoing})
+	sum, runErr := notebook.Execute(ctx, nb, &notebook.Options{Dir: srcDir, Name: nf.path, KeepGoing: nf.keepGoing})
 	for _, f := range sum.Failures {
 		reportFailure(stderr, nf.path, f)
 	}

@@ -63,8 +63,18 @@ func Excerpt(r Range, text string) []string {
 	} else {
 		end += r.Start.Offset
 	}
-	line := strings.ReplaceAll(text[start:end], "\t", " ")
-	line = strings.TrimRight(line, "\r")
+	line := strings.TrimRight(text[start:end], "\r")
+	// Control characters (from a binary file, say) are shown as '?', one
+	// for one, so the caret stays in its column and the terminal is safe.
+	line = strings.Map(func(r rune) rune {
+		switch {
+		case r == '\t':
+			return ' '
+		case r < 0x20 || r == 0x7f || (r >= 0x80 && r < 0xa0):
+			return '?'
+		}
+		return r
+	}, line)
 	col := utf8.RuneCountInString(text[start:r.Start.Offset])
 	width := 1
 	if r.End.Offset > r.Start.Offset {

@@ -24,6 +24,9 @@ type Options struct {
 	// and data files are found, normally the notebook's own directory;
 	// "" is the current directory.
 	Dir string
+	// Name, when set, is the notebook's path; diagnostics then name cells
+	// as Name[N].
+	Name string
 	// KeepGoing runs the remaining code cells after a cell fails; by
 	// default Execute stops at the first failing cell.
 	KeepGoing bool
@@ -91,6 +94,7 @@ func Execute(ctx context.Context, nb *Notebook, opts *Options) (*Summary, error)
 	if runner == nil {
 		ws := workspace.New()
 		ws.Dir = o.Dir
+		ws.Name = o.Name
 		runner = ws
 	}
 	setLanguage(nb)

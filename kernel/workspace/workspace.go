@@ -22,6 +22,9 @@ type Workspace struct {
 	// Dir is the directory relative to which included files and data
 	// files are found ("" is the current directory).
 	Dir string
+	// Name, when set, names cells in diagnostics as Name[N] (a notebook's
+	// path: the same names massline check uses); otherwise cell[N].
+	Name string
 }
 
 // New returns an empty workspace.
@@ -57,7 +60,10 @@ func (w *Workspace) Execute(ctx context.Context, code string, sink kernel.Sink) 
 	defer w.mu.Unlock()
 	w.n++
 	name := fmt.Sprintf("cell[%d]", w.n)
-	if w.Dir != "" {
+	switch {
+	case w.Name != "":
+		name = fmt.Sprintf("%s[%d]", w.Name, w.n)
+	case w.Dir != "":
 		name = w.Dir + "/" + name
 	}
 	f, diags := dsl.Parse(name, code)
