@@ -43,3 +43,45 @@ func TestLayeredBathEquilibrium(t *testing.T) {
 		}
 	}
 }
+
+// TestLangmuirBathEquilibrium: beads with a Langmuir store in a bath shared
+// by 1000 beads reach the equilibrium fixed by conservation of amount,
+// V_b·c + V_p·q(c) = V_b·c₀ with q(c) = 0.4c + 20c/(1 + 2c) (c in
+// mol/m^3), solved here by bisection; the uptake fraction tends to 1.
+// (Derived from the conservation of amount; no outside source needed.)
+func TestLangmuirBathEquilibrium(t *testing.T) {
+	src, err := os.ReadFile("testdata/langmuir_bath.mln")
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, diags, err := RunSource(context.Background(), "langmuir_bath.mln", string(src), nil)
+	if err != nil {
+		t.Fatalf("%v\n%v", err, diags)
+	}
+	vp := 4.0 / 3.0 * math.Pi * 1e-9
+	vb := 20e-6 / 1000
+	q := func(c float64) float64 { return 0.4*c + 20*c/(1+2*c) }
+	lo, hi := 0.0, 1.0
+	for i := 0; i < 200; i++ {
+		mid := (lo + hi) / 2
+		if vb*mid+vp*q(mid) < vb*1 {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	bath := res.Find("bath", "b", "s")
+	up := res.Find("uptake_fraction", "b", "s")
+	last := len(res.Times) - 1
+	if math.Abs(bath.Values[last]-lo)/lo > 1e-6 {
+		t.Errorf("final bath value %.8f, equilibrium %.8f", bath.Values[last], lo)
+	}
+	if math.Abs(up.Values[last]-1) > 1e-6 {
+		t.Errorf("final uptake fraction %.8f, want 1", up.Values[last])
+	}
+	for _, l := range res.Ledger {
+		if l.Closure > 1e-9 {
+			t.Errorf("ledger closes to %.1e", l.Closure)
+		}
+	}
+}

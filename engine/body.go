@@ -176,7 +176,7 @@ func solveBody(ctx context.Context, m *compile.Model, b *compile.Body, set compi
 		}
 		sol.atol = atol
 		if m.Run.Steady {
-			ys, err := steadyState(p, y, 0)
+			ys, err := d.SteadyState(0, y, nil)
 			if err != nil {
 				return nil, &Error{Where: m.Run.Def, Msg: "no steady state found: " + err.Error(), Err: err}
 			}
@@ -204,7 +204,11 @@ func solveBody(ctx context.Context, m *compile.Model, b *compile.Body, set compi
 				return nil, interruptErr(ctx.Err())
 			}
 			where := m.Run.Def
-			return nil, &Error{Where: where, Msg: fmt.Sprintf("the solver stopped in body %s: %v", b.Name, err), Err: err}
+			msg := fmt.Sprintf("the solver stopped in body %s: %v", b.Name, err)
+			if ee := d.EvalError(); ee != nil {
+				msg += " (" + ee.Error() + ")"
+			}
+			return nil, &Error{Where: where, Msg: msg, Err: err}
 		}
 		for i, t := range tout {
 			if k > 0 && i == 0 && t == st.start {
@@ -261,7 +265,7 @@ func (s *bodySolution) equilibrium(st stagePlan, m *compile.Model) {
 		}
 		return
 	}
-	ys, err := steadyState(s.disc.d.Problem(), last, m.Run.Until)
+	ys, err := s.disc.d.SteadyState(m.Run.Until, last, nil)
 	if err != nil {
 		for _, si := range s.body.Species {
 			s.final[si] = math.NaN()
@@ -329,38 +333,15 @@ func hasSources(b *compile.Body) bool {
 
 // bathEquilibrium is the content of species si when the body and its bath
 // have come to equilibrium with no reaction: the total amount (body plus
-// bath) is conserved, the outer layer holds K × the bath value and each
-// inner layer 1/K_contact of the layer outside it (linear stores).
+// bath) is conserved and every layer holds what is in equilibrium with the
+// bath through the partitions (fv.Discretization.EquilibriumWithBath,
+// which handles nonlinear stores too).
 func (s *bodySolution) bathEquilibrium(y []float64, si int, st stagePlan) float64 {
-	d := s.disc.d
 	k := s.disc.k(si)
 	if k < 0 {
 		return math.NaN()
 	}
-	bi := d.BathIndex(k)
-	cond := st.conds[outerSide(s.body)][si]
-	if bi < 0 || cond == nil {
-		return math.NaN()
-	}
-	layers := s.disc.low.Spec.Layers
-	mult := make([]float64, len(layers))
-	mult[len(layers)-1] = cond.Partition
-	for l := len(layers) - 1; l > 0; l-- {
-		kc := 1.0
-		if p := layers[l].Partition; p != nil && p[k] != 0 {
-			kc = p[k]
-		}
-		mult[l-1] = mult[l] / kc
-	}
-	unitState := make([]float64, len(y))
-	ns := d.NSpecies()
-	for i := 0; i < d.Cells(); i++ {
-		unitState[i*ns+k] = mult[d.Grid.Layer[i]]
-	}
-	unit := nan(d.Content(unitState, k)) // content per unit bath value
-	total := nan(d.Content(y, k)) + cond.BathVolume*y[bi]
-	cb := total / (unit + cond.BathVolume)
-	return cb * unit
+	return nan(s.disc.d.EquilibriumWithBath(y, k))
 }
 
 func outerSide(b *compile.Body) string {

@@ -27,14 +27,21 @@ func (s *bodySolution) effectiveness(m *compile.Model, si int) float64 {
 	t := 0.0
 	if y == nil {
 		var err error
-		y, err = steadyState(d.Problem(), s.ys[len(s.ys)-1], m.Run.Until)
+		y, err = d.SteadyState(m.Run.Until, s.ys[len(s.ys)-1], nil)
 		if err != nil {
 			return math.NaN()
 		}
 		t = m.Run.Until
 	}
-	ns := d.NSpecies()
 	env := compile.Env{C: make([]float64, len(m.Species)), T: t}
+	cells := make([][]float64, len(s.disc.low.Species))
+	for kk := range s.disc.low.Species {
+		v, err := d.CellValues(y, kk)
+		if err != nil {
+			return math.NaN()
+		}
+		cells[kk] = v
+	}
 	actual, vol := 0.0, 0.0
 	var surfaceRate float64
 	g := d.Grid
@@ -45,7 +52,7 @@ func (s *bodySolution) effectiveness(m *compile.Model, si int) float64 {
 			continue
 		}
 		for kk, sj := range s.disc.low.Species {
-			env.C[sj] = y[i*ns+kk]
+			env.C[sj] = cells[kk][i]
 		}
 		env.R = g.Centres[i]
 		actual += g.Volumes[i] * bal.Source.Eval(&env)

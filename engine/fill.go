@@ -5,12 +5,8 @@ import (
 
 	"github.com/massline/massline/compile"
 	"github.com/massline/massline/compile/units"
-	"github.com/massline/massline/solvers"
 )
 
-func steadyState(p *solvers.Problem, y0 []float64, t float64) ([]float64, error) {
-	return solvers.Steady(p, y0, t, nil)
-}
 
 // value computes one result kind for a species at output index i,
 // Richardson-extrapolated when a coarse companion solution is present.

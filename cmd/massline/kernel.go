@@ -20,6 +20,10 @@ func cmdKernel(args []string, stdout, stderr io.Writer) int {
 		case "install", "remove":
 			return cmdKernelInstall(args[0], args[1:], stdout, stderr)
 		case "list":
+			if len(args) > 1 {
+				fmt.Fprintln(stderr, "usage: massline kernel list")
+				return 2
+			}
 			specs, err := kernel.ListKernelSpecs()
 			if err != nil {
 				fmt.Fprintf(stderr, "massline: %v\n", err)

@@ -42,6 +42,22 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "massline: %v\n", err)
 		return 1
 	}
+	dir := *out
+	if dir == "" {
+		dir = filepath.Dir(path)
+	}
+	// Make sure the results can be written before spending time solving.
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		fmt.Fprintf(stderr, "massline: %v\n", err)
+		return 1
+	}
+	if probe, err := os.CreateTemp(dir, ".massline-write-test-*"); err != nil {
+		fmt.Fprintf(stderr, "massline: cannot write results to %s: %v\n", dir, err)
+		return 1
+	} else {
+		probe.Close()
+		os.Remove(probe.Name())
+	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 	sources := diag.Sources{path: string(src)}
@@ -62,14 +78,6 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	fmt.Fprint(stdout, res.String())
-	dir := *out
-	if dir == "" {
-		dir = filepath.Dir(path)
-	}
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		fmt.Fprintf(stderr, "massline: %v\n", err)
-		return 1
-	}
 	base := strings.TrimSuffix(filepath.Base(path), filepath.Ext(path))
 	written, err := writeOutputs(dir, base, res, *csv)
 	if err != nil {
