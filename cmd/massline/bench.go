@@ -451,7 +451,7 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 				fmt.Fprintf(stdout, "  error ≤ %.0e: massline did not reach it\n", target)
 				continue
 			}
-			line := fmt.Sprintf("  error ≤ %.0e: massline %.3f ms (%d cells, rtol %.0e)", target, ml.Seconds*1e3, ml.Cells, ml.RTol)
+			line := fmt.Sprintf("  error ≤ %.0e: %s %.3f ms (%d cells, rtol %.0e)", target, ml.Method, ml.Seconds*1e3, ml.Cells, ml.RTol)
 			for _, sp := range []string{"scipy BDF", "scipy LSODA"} {
 				if s, ok := bestAt(rows, sp, target); ok {
 					line += fmt.Sprintf("; %s %.2f ms (%d cells) → %.0f× faster", sp, s.Seconds*1e3, s.Cells, s.Seconds/ml.Seconds)
@@ -462,7 +462,65 @@ func cmdBench(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintln(stdout, line)
 		}
 	}
+	if err := benchScaling(stdout, *quick); err != nil {
+		fmt.Fprintf(stderr, "massline: bench: %v\n", err)
+		return 1
+	}
 	return 0
+}
+
+// benchScaling prints the cost of one integrator step against the number
+// of cells (P1, rtol 1e-6) and the heap allocations per step, measured on
+// a second run with the same integrator (its workspace already sized).
+func benchScaling(w io.Writer, quick bool) error {
+	probs, err := benchProblems()
+	if err != nil {
+		return err
+	}
+	p := probs[0]
+	f, _ := dsl.Parse(p.name, p.model)
+	m, diags := compile.Check(f, nil)
+	if m == nil {
+		return diags.Err()
+	}
+	cells := []int{100, 200, 400, 800, 1600, 3200}
+	if quick {
+		cells = []int{100, 400}
+	}
+	fmt.Fprintf(w, "\nCost per step (P1, rtol 1e-6): linear in the number of cells, no allocation per step\n")
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "cells\tsteps\ttime [ms]\tµs/step\tns/(step·cell)\tallocs/step\t")
+	for _, n := range cells {
+		b := m.Bodies[0]
+		low, err := compile.Lower(m, b, b.Conditions, compile.Settings{Cells: n, RTol: 1e-6})
+		if err != nil {
+			return err
+		}
+		d, err := fv.Build(low.Spec)
+		if err != nil {
+			return err
+		}
+		prob := d.Problem()
+		it := &solvers.Integrator{}
+		set := &solvers.Settings{RTol: 1e-6, ATol: 1e-9}
+		if _, err := it.Integrate(context.Background(), prob, 0, d.Y0(), p.times, set); err != nil {
+			return err
+		}
+		var before, after runtime.MemStats
+		runtime.ReadMemStats(&before)
+		t0 := time.Now()
+		r, err := it.Integrate(context.Background(), prob, 0, d.Y0(), p.times, set)
+		el := time.Since(t0)
+		runtime.ReadMemStats(&after)
+		if err != nil {
+			return err
+		}
+		steps := r.Stats.Steps
+		allocs := float64(after.Mallocs-before.Mallocs) / float64(steps)
+		us := el.Seconds() * 1e6 / float64(steps)
+		fmt.Fprintf(tw, "%d\t%d\t%.2f\t%.1f\t%.1f\t%.2f\t\n", n, steps, el.Seconds()*1e3, us, us*1e3/float64(n), allocs)
+	}
+	return tw.Flush()
 }
 
 // findScript looks for the scipy script next to the working directory or
