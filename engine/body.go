@@ -152,15 +152,11 @@ func solveBody(ctx context.Context, m *compile.Model, b *compile.Body, set compi
 			set, sol.notes = resolveGrid(m, b, st.conds, set, sol.notes)
 			sol.set = set
 		}
-		low, err := compile.Lower(m, b, st.conds, set)
+		disc, err := build(m, b, st.conds, set)
 		if err != nil {
 			return nil, &Error{Where: b.Def, Msg: "body " + b.Name + ": " + err.Error(), Err: err}
 		}
-		d, err := fv.Build(low.Spec)
-		if err != nil {
-			return nil, &Error{Where: b.Def, Msg: "body " + b.Name + ": " + err.Error(), Err: err}
-		}
-		disc := &disc{d: d, low: low}
+		d := disc.d
 		sol.disc = disc
 		sol.cells = d.Cells()
 		p := d.Problem()
@@ -168,7 +164,7 @@ func solveBody(ctx context.Context, m *compile.Model, b *compile.Body, set compi
 			y = d.Y0()
 			qOffset = make([]float64, p.NQuad)
 		} else {
-			resetBaths(d, low, y, st.restated)
+			resetBaths(disc, y, st.restated)
 		}
 		atol := set.ATol
 		if atol == 0 {
@@ -196,7 +192,7 @@ func solveBody(ctx context.Context, m *compile.Model, b *compile.Body, set compi
 		if len(tout) == 0 || tout[len(tout)-1] < st.end {
 			tout = append(tout, st.end)
 		}
-		sset := &solvers.Settings{RTol: set.RTol, ATol: atol, Stops: low.Stops}
+		sset := &solvers.Settings{RTol: set.RTol, ATol: atol, Stops: disc.stops}
 		r, err := solvers.Integrate(ctx, p, st.start, y, tout, sset)
 		addSolverStats(&sol.stats, r)
 		if err != nil {
@@ -279,19 +275,33 @@ func (s *bodySolution) equilibrium(st stagePlan, m *compile.Model) {
 }
 
 // resetBaths sets each bath that a stage restates to its start value.
-func resetBaths(d *fv.Discretization, low *compile.Lowered, y []float64, restated map[string]map[int]*compile.Condition) {
+func resetBaths(d *disc, y []float64, restated map[string]map[int]*compile.Condition) {
 	for _, bySpecies := range restated {
 		for si, c := range bySpecies {
 			if c.Kind != compile.Bath {
 				continue
 			}
-			if k := low.Local(si); k >= 0 {
-				if i := d.BathIndex(k); i >= 0 {
+			if k := d.k(si); k >= 0 {
+				if i := d.d.BathIndex(k); i >= 0 {
 					y[i] = c.BathStart
 				}
 			}
 		}
 	}
+}
+
+// build lowers one body under a stage's conditions and builds its
+// discretisation.
+func build(m *compile.Model, b *compile.Body, conds map[string]map[int]*compile.Condition, set compile.Settings) (*disc, error) {
+	low, err := compile.Lower(m, b, conds, set)
+	if err != nil {
+		return nil, err
+	}
+	d, err := fv.Build(low.Spec)
+	if err != nil {
+		return nil, err
+	}
+	return &disc{d: d, species: low.Species, geom: fvGeometry(d), stops: low.Stops}, nil
 }
 
 // concentrationScale is the size of the concentrations in play: the
@@ -359,7 +369,7 @@ func outerSide(b *compile.Body) string {
 // are not examined (common practice, no source: three cells across a
 // boundary layer).
 func resolveGrid(m *compile.Model, b *compile.Body, conds map[string]map[int]*compile.Condition, set compile.Settings, notes []string) (compile.Settings, []string) {
-	if set.Cells != 0 || set.Cluster != 0 {
+	if set.Cells != 0 || set.Cluster != 0 || b.Shape == compile.ShortCylinder {
 		return set, notes
 	}
 	low, err := compile.Lower(m, b, conds, set)

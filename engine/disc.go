@@ -3,20 +3,65 @@ package engine
 import (
 	"math"
 
-	"github.com/massline/massline/compile"
 	"github.com/massline/massline/compile/fv"
+	"github.com/massline/massline/solvers"
 )
 
-// disc adapts a body's finite-volume discretisation to the model's species
-// numbering. Its methods take model species indices and return NaN for a
-// species that is not in the body.
-type disc struct {
-	d   *fv.Discretization
-	low *compile.Lowered
-	y0  []float64
+// discretization is what the engine needs of a body's discrete system:
+// the 1-D finite volumes of package fv (and, through an adapter, other
+// discretisations) provide it. Species are the body's local indices.
+type discretization interface {
+	Problem() *solvers.Problem
+	Y0() []float64
+	N() int
+	Cells() int
+	NSpecies() int
+	BathIndex(s int) int
+	Content(y []float64, s int) (float64, error)
+	Mean(y []float64, s int) (float64, error)
+	Centre(t float64, y []float64, s int) (float64, error)
+	Surface(t float64, y []float64, s int) (float64, error)
+	SurfaceFlux(t float64, y []float64, s int) (float64, error)
+	BathValue(y []float64, s int) (float64, error)
+	Profile(t float64, y []float64, s int) (r, c []float64, err error)
+	Ledger(y0, y, q []float64) ([]fv.LedgerLine, error)
+	SteadyState(t float64, y0 []float64, s *solvers.SteadySettings) ([]float64, error)
+	EquilibriumWithBath(y []float64, s int) (float64, error)
+	CellValues(y []float64, s int) ([]float64, error)
+	EvalError() error
 }
 
-func (s *disc) k(si int) int { return s.low.Local(si) }
+// cellGeometry gives the volume, position and layer (region index) of
+// every cell, for results that integrate over the body (effectiveness).
+type cellGeometry struct {
+	vol, r, z []float64 // z is nil for 1-D bodies
+	layer     []int
+}
+
+// fvGeometry reads the cell geometry of a 1-D discretisation.
+func fvGeometry(d *fv.Discretization) cellGeometry {
+	return cellGeometry{vol: d.Grid.Volumes, r: d.Grid.Centres, layer: d.Grid.Layer}
+}
+
+// disc adapts a body's discretisation to the model's species numbering.
+// Its methods take model species indices and return NaN for a species
+// that is not in the body.
+type disc struct {
+	d       discretization
+	species []int // local → model species index
+	geom    cellGeometry
+	stops   []float64
+	y0      []float64
+}
+
+func (s *disc) k(si int) int {
+	for k, x := range s.species {
+		if x == si {
+			return k
+		}
+	}
+	return -1
+}
 
 func nan(v float64, err error) float64 {
 	if err != nil {

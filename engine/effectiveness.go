@@ -34,8 +34,8 @@ func (s *bodySolution) effectiveness(m *compile.Model, si int) float64 {
 		t = m.Run.Until
 	}
 	env := compile.Env{C: make([]float64, len(m.Species)), T: t}
-	cells := make([][]float64, len(s.disc.low.Species))
-	for kk := range s.disc.low.Species {
+	cells := make([][]float64, len(s.disc.species))
+	for kk := range s.disc.species {
 		v, err := d.CellValues(y, kk)
 		if err != nil {
 			return math.NaN()
@@ -44,19 +44,22 @@ func (s *bodySolution) effectiveness(m *compile.Model, si int) float64 {
 	}
 	actual, vol := 0.0, 0.0
 	var surfaceRate float64
-	g := d.Grid
-	for i := 0; i < g.Cells(); i++ {
-		reg := s.body.Regions[g.Layer[i]]
+	g := s.disc.geom
+	for i := range g.vol {
+		reg := s.body.Regions[g.layer[i]]
 		bal := reg.Balances[si]
 		if bal == nil || bal.Source == nil {
 			continue
 		}
-		for kk, sj := range s.disc.low.Species {
+		for kk, sj := range s.disc.species {
 			env.C[sj] = cells[kk][i]
 		}
-		env.R = g.Centres[i]
-		actual += g.Volumes[i] * bal.Source.Eval(&env)
-		vol += g.Volumes[i]
+		env.R = g.r[i]
+		if g.z != nil {
+			env.Z = g.z[i]
+		}
+		actual += g.vol[i] * bal.Source.Eval(&env)
+		vol += g.vol[i]
 	}
 	if vol == 0 {
 		return math.NaN()
@@ -67,7 +70,7 @@ func (s *bodySolution) effectiveness(m *compile.Model, si int) float64 {
 	if bal == nil || bal.Source == nil {
 		return math.NaN()
 	}
-	for kk, sj := range s.disc.low.Species {
+	for kk, sj := range s.disc.species {
 		env.C[sj] = nan(d.Surface(t, y, kk))
 	}
 	env.R = s.body.Outer

@@ -7,7 +7,6 @@ import (
 	"github.com/massline/massline/compile/units"
 )
 
-
 // value computes one result kind for a species at output index i,
 // Richardson-extrapolated when a coarse companion solution is present.
 func (s *bodySolution) value(kind string, si, i int) float64 {
