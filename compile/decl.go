@@ -831,8 +831,14 @@ func (c *checker) checkCompleteness() {
 			}
 			for _, si := range b.Species {
 				if b.Conditions[place][si] == nil {
-					c.diags.Add("missing", d.Name.Range, "boundary %s.%s has no condition for %s; add `boundary %s.%s for %s: ...`",
+					dg := c.diags.Add("missing", d.Name.Range, "boundary %s.%s has no condition for %s; add `boundary %s.%s for %s: ...`",
 						b.Name, place, c.m.Species[si].Name, b.Name, place, c.m.Species[si].Name)
+					for _, st := range c.m.Stages {
+						if st.Conditions[b.Name][place][si] != nil {
+							dg.Notes = append(dg.Notes, "stages change a condition but do not replace a missing one: state it outside the stages too (for a bath, the bath itself; a stage may then restate it with a new start)")
+							break
+						}
+					}
 				}
 			}
 		}
