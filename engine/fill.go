@@ -167,24 +167,74 @@ func (s *bodySolution) ledger(m *compile.Model) []Ledger {
 	return out
 }
 
-// timeTo finds the first time the uptake (or release) fraction reaches f,
-// by linear interpolation between the dense output times; NaN when it is
-// not reached in the run.
+// timeTo finds the first time the uptake (or release) fraction reaches f:
+// it brackets the crossing among the dense output times, then solves for
+// it on the cubic through the four nearest values, in log time where the
+// times are positive (uptake grows like a power of time early on), by
+// bisection; NaN when the fraction is not reached in the run.
 func (s *bodySolution) timeTo(si int, f float64, kind string) float64 {
-	prev := s.value(kind, si, 0)
-	for i := 1; i < len(s.times); i++ {
-		v := s.value(kind, si, i)
-		if v >= f && prev < f {
-			w := (f - prev) / (v - prev)
-			t0, t1 := s.times[i-1], s.times[i]
-			if t0 > 0 {
-				// Uptake grows like a power of time early on: interpolate
-				// in log time.
-				return t0 * math.Pow(t1/t0, w)
-			}
-			return t0 + w*(t1-t0)
+	n := len(s.times)
+	vals := make([]float64, n)
+	for i := range vals {
+		vals[i] = s.value(kind, si, i)
+	}
+	for i := 1; i < n; i++ {
+		if !(vals[i] >= f && vals[i-1] < f) {
+			continue
 		}
-		prev = v
+		t0, t1 := s.times[i-1], s.times[i]
+		// Four points around the bracket, inside the range.
+		lo := max(0, min(i-2, n-4))
+		hi := min(n, lo+4)
+		useLog := s.times[lo] > 0
+		x := func(t float64) float64 {
+			if useLog {
+				return math.Log(t)
+			}
+			return t
+		}
+		xs := make([]float64, 0, 4)
+		ys := make([]float64, 0, 4)
+		for j := lo; j < hi; j++ {
+			xs = append(xs, x(s.times[j]))
+			ys = append(ys, vals[j])
+		}
+		poly := func(xx float64) float64 {
+			sum := 0.0
+			for a := range xs {
+				l := 1.0
+				for b := range xs {
+					if a != b {
+						l *= (xx - xs[b]) / (xs[a] - xs[b])
+					}
+				}
+				sum += ys[a] * l
+			}
+			return sum
+		}
+		a, b := x(t0), x(t1)
+		if len(xs) < 4 || poly(a) >= f || poly(b) < f {
+			// Too few points or a non-monotone cubic: linear in x.
+			w := (f - vals[i-1]) / (vals[i] - vals[i-1])
+			xr := a + w*(b-a)
+			if useLog {
+				return math.Exp(xr)
+			}
+			return xr
+		}
+		for it := 0; it < 100 && b-a > 1e-15*math.Max(1, math.Abs(b)); it++ {
+			mid := (a + b) / 2
+			if poly(mid) < f {
+				a = mid
+			} else {
+				b = mid
+			}
+		}
+		xr := (a + b) / 2
+		if useLog {
+			return math.Exp(xr)
+		}
+		return xr
 	}
 	return math.NaN()
 }
