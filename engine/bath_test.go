@@ -13,7 +13,8 @@ import (
 // holds K_bath·c_b and the core K_bath·c_b/K_contact. The long-time
 // solution must reach that bath value, and the uptake fraction 1. The
 // reference value is derived in the test from the geometry (exact
-// volumes), independent of the discretisation.
+// volumes), independent of the discretisation. source: conservation of
+// amount and the partition equilibrium (a derivation; no outside value).
 func TestLayeredBathEquilibrium(t *testing.T) {
 	src, err := os.ReadFile("testdata/layered_bath.mln")
 	if err != nil {
@@ -48,7 +49,7 @@ func TestLayeredBathEquilibrium(t *testing.T) {
 // by 1000 beads reach the equilibrium fixed by conservation of amount,
 // V_b·c + V_p·q(c) = V_b·c₀ with q(c) = 0.4c + 20c/(1 + 2c) (c in
 // mol/m^3), solved here by bisection; the uptake fraction tends to 1.
-// (Derived from the conservation of amount; no outside source needed.)
+// source: conservation of amount (a derivation; no outside value).
 func TestLangmuirBathEquilibrium(t *testing.T) {
 	src, err := os.ReadFile("testdata/langmuir_bath.mln")
 	if err != nil {

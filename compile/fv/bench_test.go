@@ -42,6 +42,10 @@ func BenchmarkFuncJac(b *testing.B) {
 // from τ = 0 to 1 with the default solver settings, on the default
 // clustered grid and on uniform grids, and reports the worst relative
 // error of the uptake fraction over 1e-3 ≤ τ ≤ 1.
+//
+// source: the series solution for a sphere with a constant surface value,
+// J. Crank, The Mathematics of Diffusion, 2nd ed. (1975), eq. 6.20 (from
+// memory), as implemented in solvers/analytic.
 func BenchmarkUptake(b *testing.B) {
 	taus := []float64{1e-3, 3e-3, 0.01, 0.03, 0.1, 0.3, 1}
 	an, _ := analytic.NewFixedSurface(analytic.Sphere)

@@ -13,7 +13,8 @@ import (
 // quadratures g(t, y) = C y + e at time tm, for a discretisation without
 // Kinetics. A is read from the analytic Jacobian (checked against finite
 // differences in TestJacobianMatchesFiniteDifferences); b, C and e are
-// probed from Func and Quad.
+// probed from Func and Quad. (A helper, not a reference check: no outside
+// source: applies.)
 func linearParts(d *Discretization, tm float64) (A *mat.Dense, b []float64, C *mat.Dense, e []float64) {
 	p := d.Problem()
 	n, nq := p.N, p.NQuad
