@@ -139,8 +139,7 @@ func Check(f *dsl.File, opts *Options) (m *Model, diags diag.List) {
 		seen: map[string]*decl{}, symbols: map[string]*Symbol{}, included: map[string]bool{}, failed: map[string]bool{},
 		broken: map[string]bool{}, balFailed: map[string]bool{},
 	}
-	sum := sha256.Sum256([]byte(f.Source))
-	c.m = &Model{Name: f.Name, Source: f.Source, Hash: hex.EncodeToString(sum[:]), Version: LanguageVersion,
+	c.m = &Model{Name: f.Name, Source: f.Source, Hash: canonicalHash(f, opts.Previous), Version: LanguageVersion,
 		Info: &Info{Dims: map[dsl.Expr]units.Dim{}, Uses: map[*dsl.Ident]*Symbol{}, Defs: map[*dsl.Ident]*Symbol{}}}
 	for i, p := range opts.Previous {
 		c.collect(p, i, p.Stmts)
@@ -1030,4 +1029,27 @@ func editDistance(a, b string) int {
 		}
 	}
 	return d[len(ra)][len(rb)]
+}
+
+// canonicalHash is the sha256 of the model's canonical text: the earlier
+// cells (if any) and the file, each in the layout Format gives, so that a
+// change of layout or comments keeps the hash and a change of meaning does
+// not. A file with statements that did not parse hashes its raw text.
+func canonicalHash(f *dsl.File, previous []*dsl.File) string {
+	h := sha256.New()
+	for _, p := range append(append([]*dsl.File(nil), previous...), f) {
+		text := p.Source
+		bad := false
+		for _, s := range p.Stmts {
+			if _, ok := s.(*dsl.BadStmt); ok {
+				bad = true
+			}
+		}
+		if !bad {
+			text = dsl.Format(&dsl.File{Name: p.Name, Source: p.Source, Stmts: p.Stmts})
+		}
+		h.Write([]byte(text))
+		h.Write([]byte{0})
+	}
+	return hex.EncodeToString(h.Sum(nil))
 }

@@ -85,3 +85,20 @@ func TestSettingsOnOff(t *testing.T) {
 		t.Errorf("bad value: %q", msgs)
 	}
 }
+
+// TestCanonicalHash: the model hash ignores layout and comments and
+// follows every change of meaning.
+func TestCanonicalHash(t *testing.T) {
+	a, _ := checkText(t, "let R = 1.5 [mm]\nlet D = 4e-10 [m^2/s]\n")
+	b, _ := checkText(t, "# a comment\nlet R    =   1.5 [ mm ]\n\n\nlet D = 4e-10 [m^2/s]   # diffusivity\n")
+	c, _ := checkText(t, "let R = 1.6 [mm]\nlet D = 4e-10 [m^2/s]\n")
+	if a == nil || b == nil || c == nil {
+		t.Fatal("check failed")
+	}
+	if a.Hash != b.Hash {
+		t.Errorf("layout and comments changed the hash: %s vs %s", a.Hash, b.Hash)
+	}
+	if a.Hash == c.Hash {
+		t.Error("a changed value kept the hash")
+	}
+}
