@@ -1031,10 +1031,11 @@ func editDistance(a, b string) int {
 	return d[len(ra)][len(rb)]
 }
 
-// canonicalHash is the sha256 of the model's canonical text: the earlier
-// cells (if any) and the file, each in the layout Format gives, so that a
-// change of layout or comments keeps the hash and a change of meaning does
-// not. A file with statements that did not parse hashes its raw text.
+// canonicalHash is the sha256 of the model's canonical form: the syntax
+// trees of the earlier cells (if any) and of the file, written as
+// S-expressions, so that a change of layout or comments keeps the hash and
+// a change of meaning does not. A file with statements that did not parse
+// hashes its raw text.
 func canonicalHash(f *dsl.File, previous []*dsl.File) string {
 	h := sha256.New()
 	for _, p := range append(append([]*dsl.File(nil), previous...), f) {
@@ -1046,7 +1047,8 @@ func canonicalHash(f *dsl.File, previous []*dsl.File) string {
 			}
 		}
 		if !bad {
-			text = dsl.Format(&dsl.File{Name: p.Name, Source: p.Source, Stmts: p.Stmts})
+			// The syntax tree as an S-expression: no layout, no comments.
+			text = dsl.SExprFile(p)
 		}
 		h.Write([]byte(text))
 		h.Write([]byte{0})
