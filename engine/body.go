@@ -8,6 +8,7 @@ import (
 
 	"github.com/massline/massline/compile"
 	"github.com/massline/massline/compile/fv"
+	"github.com/massline/massline/compile/fv2"
 	"github.com/massline/massline/solvers"
 )
 
@@ -293,6 +294,19 @@ func resetBaths(d *disc, y []float64, restated map[string]map[int]*compile.Condi
 // build lowers one body under a stage's conditions and builds its
 // discretisation.
 func build(m *compile.Model, b *compile.Body, conds map[string]map[int]*compile.Condition, set compile.Settings) (*disc, error) {
+	if b.Shape == compile.ShortCylinder {
+		low, err := compile.Lower2D(m, b, conds, set)
+		if err != nil {
+			return nil, err
+		}
+		d, err := fv2.Build(low.Spec)
+		if err != nil {
+			return nil, err
+		}
+		r, z := d.CellCentres()
+		return &disc{d: d, species: low.Species, stops: low.Stops,
+			geom: cellGeometry{vol: d.CellVolumes(), r: r, z: z, layer: make([]int, d.Cells())}}, nil
+	}
 	low, err := compile.Lower(m, b, conds, set)
 	if err != nil {
 		return nil, err

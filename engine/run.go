@@ -160,6 +160,9 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 		if (extrapolate || estimate) && !m.Run.Steady {
 			coarse := sol.set
 			coarse.Cells = max(3, sol.cells/2)
+			if b.Shape == compile.ShortCylinder {
+				coarse.Cells = max(16, sol.cells/4) // half the cells in each direction
+			}
 			c, err := solveBody(ctx, m, b, coarse)
 			if err != nil {
 				return nil, err

@@ -24,7 +24,9 @@ type Spec struct {
 	// both are 0 Build shares DefaultCells between the two directions in
 	// proportion to R and L (equal cell density in both, at least
 	// MinCells and at most MaxAutoCells each way); when one of them is 0
-	// it is chosen for the same density as the other.
+	// it is chosen for the same density as the other. Automatic counts
+	// are even, so that the grid with half the cells each way (the same
+	// clustering map) is nested in it, as Richardson extrapolation wants.
 	NR, NZ int
 	// Cluster sets how strongly cells shrink toward the faces that carry
 	// a condition (every one but an insulated face): as in package fv,
