@@ -289,8 +289,11 @@ func ledgerTables(ls []Ledger) []Output {
 
 // posLabel names the diffusion coordinate of a body.
 func posLabel(b *compile.Body) string {
-	if b.Shape == compile.Slab {
+	switch b.Shape {
+	case compile.Slab:
 		return "distance from mid-plane x"
+	case compile.ShortCylinder:
+		return "position r at mid-height"
 	}
 	return "position r"
 }
