@@ -377,8 +377,8 @@ func outerSide(b *compile.Body) string {
 // thinnest boundary layer the model will form: √(D/k) for a first-order
 // consumption k, and √(D·t₁) at the first output time t₁. When the user
 // set neither cells nor cluster and the cell at a face where something
-// crosses is wider than a tenth of that thickness, the clustering and the
-// number of cells are raised together (cells growing by at most 10 % from
+// crosses is wider than a tenth of that thickness, or fewer than 25 cells
+// lie within it, the clustering and the number of cells are raised together (cells growing by at most 10 % from
 // one to the next; up to 640 cells); a note says so, or says that the grid
 // may still be too coarse. (Ten cells across a boundary layer: our own
 // working rule, common practice, no source; at Thiele moduli up to 3·10⁴
@@ -415,45 +415,63 @@ func resolveGrid(m *compile.Model, b *compile.Body, conds map[string]map[int]*co
 	for _, c := range conds[compile.Boundaries(b.Shape)[0]] {
 		innerActive = innerActive || (c.Kind != compile.Symmetry && c.Kind != compile.Sealed)
 	}
-	faceCell := func(s compile.Settings) float64 {
+	// probe builds the grid for settings s and returns the width of the
+	// cell at the active face(s) and the number of cells within delta of
+	// them (the fewest over the active faces).
+	probe := func(s compile.Settings) (h float64, n int) {
 		l, err := compile.Lower(m, b, conds, s)
 		if err != nil {
-			return 0
+			return 0, 1 << 30
 		}
 		d, err := fv.Build(l.Spec)
 		if err != nil {
-			return 0
+			return 0, 1 << 30
 		}
 		f := d.Grid.Faces
-		h := f[len(f)-1] - f[len(f)-2]
+		last := f[len(f)-1]
+		h = last - f[len(f)-2]
+		for _, x := range f[:len(f)-1] {
+			if last-x < delta {
+				n++
+			}
+		}
 		if innerActive {
 			h = math.Max(h, f[1]-f[0])
+			k := 0
+			for _, x := range f[1:] {
+				if x-f[0] < delta {
+					k++
+				}
+			}
+			n = min(n, k)
 		}
-		return h
+		return h, n
 	}
+	good := func(h float64, n int) bool { return h <= delta/10 && n >= 25 }
 	try := set
-	h := faceCell(try)
-	if h <= delta/10 || h == 0 {
+	h, n := probe(try)
+	if good(h, n) || h == 0 {
 		return set, notes
 	}
-	// Raise the clustering and, so that neighbouring cells still grow
-	// gently (by at most 10 % from one to the next), the number of cells.
+	// Raise the clustering and the number of cells together, so that
+	// neighbouring cells still grow gently (by at most 10 % from one to
+	// the next).
 	found := false
 search:
-	for _, n := range []int{fv.DefaultCells, 2 * fv.DefaultCells, 4 * fv.DefaultCells, 8 * fv.DefaultCells} {
-		for c := float64(fv.DefaultCluster); c <= 1.3e4; c *= 2 {
-			if math.Pow(c, 1/(0.85*float64(n))) > 1.1 {
-				break
+	for c := float64(fv.DefaultCluster); c <= 1.3e4; c *= 2 {
+		for _, cells := range []int{fv.DefaultCells, 3 * fv.DefaultCells / 2, 2 * fv.DefaultCells, 4 * fv.DefaultCells, 8 * fv.DefaultCells} {
+			if math.Pow(c, 1/(0.85*float64(cells))) > 1.1 {
+				continue
 			}
-			try.Cells, try.Cluster = n, c
-			if h = faceCell(try); h <= delta/10 {
+			try.Cells, try.Cluster = cells, c
+			if h, n = probe(try); good(h, n) {
 				found = true
 				break search
 			}
 		}
 	}
 	if !found {
-		notes = append(notes, fmt.Sprintf("body %s: the cell at the face (%.3g m) is wider than a tenth of the thinnest boundary layer (about %.3g m), even on the refined grid (cluster %g, %d cells); early or thin-layer values may be inaccurate — check with settings { estimate = on } or more cells", b.Name, h, delta, try.Cluster, try.Cells))
+		notes = append(notes, fmt.Sprintf("body %s: the grid does not resolve the thinnest boundary layer (about %.3g m) with ten face cells across it, even refined (cluster %g, %d cells); early or thin-layer values may be inaccurate — check with settings { estimate = on } or more cells", b.Name, delta, try.Cluster, try.Cells))
 	} else {
 		notes = append(notes, fmt.Sprintf("body %s: grid refined for a boundary layer about %.3g m thick (cluster %g, %d cells)", b.Name, delta, try.Cluster, try.Cells))
 	}
