@@ -1,11 +1,3 @@
-// Command massline checks, formats and runs massline model files, runs
-// notebooks headless, and serves as a Jupyter kernel.
-//
-//	massline run [--out DIR] FILE.mln
-//	massline check [--json] FILE...
-//	massline kernel install [--user | --prefix DIR | --sys-prefix]
-//	massline kernel -f CONNECTION_FILE
-//	massline version
 package main
 
 import (
