@@ -40,6 +40,17 @@ func Parse(filename, src string) (f *File, diags diag.List) {
 		f.Stmts = []Stmt{&BadStmt{Range: rangeAt(filename, src, 0, len(src))}}
 		return f, diags
 	}
+	if strings.HasPrefix(src, "\ufeff") {
+		// A byte-order mark from a Windows editor: read it as blanks (the
+		// byte offsets stay the same).
+		src = "   " + src[3:]
+		f.Source = src
+	}
+	if off, msg := tooComplex(src); msg != "" {
+		diags.Add("too-complex", rangeAt(filename, src, off, off+1), "%s", msg)
+		f.Stmts = []Stmt{&BadStmt{Range: rangeAt(filename, src, 0, len(src))}}
+		return f, diags
+	}
 	f.Comments = collectComments(filename, src)
 	g, err := fileParser.ParseString(filename, src)
 	if err == nil {
@@ -431,4 +442,76 @@ func firstInvalidUTF8(s string) int {
 		i += size
 	}
 	return 0
+}
+
+// Limits on the shape of expressions: the parser and every walk over the
+// tree recurse, and Go cannot recover from a stack overflow, so text that
+// would nest deeper is refused before it is parsed.
+const (
+	// MaxNesting is the deepest nesting of parentheses and braces.
+	MaxNesting = 200
+	// MaxOperators is the largest number of operators in one statement.
+	MaxOperators = 10000
+)
+
+// tooComplex scans src (outside strings, comments and units) and reports
+// the first place where parentheses or braces nest deeper than
+// MaxNesting, or where one statement holds more than MaxOperators
+// operators.
+func tooComplex(src string) (int, string) {
+	depth, ops := 0, 0
+	lastSignificant := byte('\n')
+	for i := 0; i < len(src); i++ {
+		ch := src[i]
+		switch {
+		case ch == '#':
+			for i < len(src) && src[i] != '\n' {
+				i++
+			}
+			i--
+			continue
+		case ch == '"':
+			for i++; i < len(src) && src[i] != '"' && src[i] != '\n'; i++ {
+				if src[i] == '\\' {
+					i++
+				}
+			}
+		case ch == '[':
+			for i < len(src) && src[i] != ']' && src[i] != '\n' {
+				i++
+			}
+		case ch == '(' || ch == '{':
+			depth++
+			if depth > MaxNesting {
+				return i, fmt.Sprintf("brackets are nested more than %d deep here; split the expression into named quantities", MaxNesting)
+			}
+		case ch == ')' || ch == '}':
+			depth = max(0, depth-1)
+		case strings.IndexByte("+-*/^<>=", ch) >= 0:
+			ops++
+		case ch == '\n':
+			// A statement continues after an operator, a comma or inside
+			// brackets; otherwise the count starts again.
+			if depth == 0 && strings.IndexByte("+-*/^<>=,(|:", lastSignificant) < 0 {
+				ops = 0
+			}
+		case ch >= 'a' && ch <= 'z':
+			j := i
+			for j < len(src) && (src[j] >= 'a' && src[j] <= 'z' || src[j] == '_') {
+				j++
+			}
+			switch src[i:j] {
+			case "if", "and", "or", "not":
+				ops++
+			}
+			i = j - 1
+		}
+		if ops > MaxOperators {
+			return i, fmt.Sprintf("this statement has more than %d operators; split it into named quantities", MaxOperators)
+		}
+		if ch != ' ' && ch != '\t' && ch != '\r' && ch != '\n' {
+			lastSignificant = ch
+		}
+	}
+	return 0, ""
 }
