@@ -1,6 +1,7 @@
 package compile
 
 import (
+	"bufio"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -378,6 +379,9 @@ func (c *checker) print(s *dsl.Print) Action {
 				part.Unit = q.Unit
 			}
 		}
+		if n, isNum := a.(*dsl.Number); isNum && n.Unit != nil {
+			part.Unit = strings.TrimSpace(n.Unit.Text) // show a literal in the unit it was written in
+		}
 		p.Parts = append(p.Parts, part)
 	}
 	return p
@@ -607,7 +611,13 @@ func readCSVHeader(path string, read func(string) ([]byte, error)) ([]string, er
 }
 
 func firstRecord(r io.Reader) ([]string, error) {
-	cr := csv.NewReader(r)
+	// A byte-order mark from a spreadsheet export goes before anything
+	// else, so that a comment or blank first line is still recognised.
+	br := bufio.NewReader(r)
+	if b, err := br.Peek(3); err == nil && string(b) == "\ufeff" {
+		br.Discard(3)
+	}
+	cr := csv.NewReader(br)
 	cr.Comment = '#'
 	rec, err := cr.Read()
 	if err != nil {

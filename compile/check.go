@@ -510,6 +510,11 @@ func (c *checker) quantityOf(name string) *Quantity {
 	}
 	q := &Quantity{Name: name, Def: s.Name.Range, Dim: dim, Expr: e}
 	if v, isConst := e.IsConst(); isConst {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			c.diags.Add("range", s.Value.Span(), "%s evaluates to %g (a division by zero, or a function outside its domain?)", name, v)
+			c.letState[name] = 2
+			return nil
+		}
 		q.Value, q.Const = v, true
 		if ov, ok := c.opts.Override[name]; ok {
 			q.Value, q.Expr = ov, Const(ov)

@@ -31,14 +31,19 @@ func runActions(ctx context.Context, m *compile.Model, sols map[string]*bodySolu
 		}
 		switch a := a.(type) {
 		case *compile.Print:
+			// Parts are joined by a space, unless the text before already
+			// ends in one.
 			var b strings.Builder
-			for _, p := range a.Parts {
-				if p.Value == nil {
-					b.WriteString(p.Text)
-					continue
+			for i, p := range a.Parts {
+				text := p.Text
+				if p.Value != nil {
+					v, _ := p.Value.IsConst()
+					text = formatQuantity(v, p.Dim, p.Unit)
 				}
-				v, _ := p.Value.IsConst()
-				b.WriteString(formatQuantity(v, p.Dim, p.Unit))
+				if i > 0 && b.Len() > 0 && !strings.HasSuffix(b.String(), " ") && !strings.HasPrefix(text, " ") {
+					b.WriteByte(' ')
+				}
+				b.WriteString(text)
 			}
 			res.Outputs = append(res.Outputs, Output{Kind: "text", Text: b.String() + "\n"})
 		case *compile.Eval:

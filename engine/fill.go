@@ -70,7 +70,10 @@ var seriesUnit = map[string]string{
 
 // fill adds this body's standard series and profiles to the result.
 func (s *bodySolution) fill(m *compile.Model, res *Result) {
-	res.Ledger = append(res.Ledger, s.ledger(m)...)
+	if !m.Run.Steady {
+		// A steady state has no history to balance: no ledger.
+		res.Ledger = append(res.Ledger, s.ledger(m)...)
+	}
 	if m.Run.Steady {
 		for _, si := range s.body.Species {
 			r, c := s.disc.Profile(0, s.steady, si)

@@ -157,7 +157,7 @@ func Run(ctx context.Context, m *compile.Model, opts *Options) (res *Result, err
 			return nil, err
 		}
 		addStats(&res.Solver, sol)
-		if (extrapolate || estimate) && !m.Run.Steady {
+		if extrapolate || estimate {
 			coarse := sol.set
 			coarse.Cells = max(3, sol.cells/2)
 			if b.Shape == compile.ShortCylinder {
