@@ -728,6 +728,10 @@ func (c *checker) binary(e *dsl.Binary, ctx *context) (*Expr, units.Dim, bool) {
 	out := &Expr{op: binOps[e.Op], args: []*Expr{x, y}}
 	switch e.Op {
 	case "+", "-", "<", "<=", ">", ">=", "==", "!=":
+		if (e.Op == "+" || e.Op == "-") && (offsetUnit(e.X) || offsetUnit(e.Y)) {
+			c.diags.Add("unit", c.opRange(e), "a temperature in °C is a point on a scale, not an amount: write a difference in K (10 [K], not 10 [°C]), or convert first")
+			return nil, dx, false
+		}
 		if dx != dy {
 			verb := map[string]string{"+": "add", "-": "subtract"}[e.Op]
 			if verb == "" {
@@ -1059,4 +1063,15 @@ func canonicalHash(f *dsl.File, previous []*dsl.File) string {
 		h.Write([]byte{0})
 	}
 	return hex.EncodeToString(h.Sum(nil))
+}
+
+// offsetUnit reports whether e is a number written in a unit with an
+// offset (°C), which cannot be added or subtracted as it stands.
+func offsetUnit(e dsl.Expr) bool {
+	n, ok := e.(*dsl.Number)
+	if !ok || n.Unit == nil {
+		return false
+	}
+	u, err := units.Parse(n.Unit.Text)
+	return err == nil && u.Offset != 0
 }

@@ -900,8 +900,19 @@ func (c *checker) checkRun() {
 		run.Until = v
 	case len(c.m.Stages) > 0:
 		run.Until = total
+	case len(s.At) > 0:
+		// run at T1, T2, …: the run ends at the last time.
+		for _, a := range s.At {
+			if v, ok := c.constant(a, units.Time, "an output time"); ok && v > run.Until {
+				run.Until = v
+			}
+		}
+		if run.Until <= 0 {
+			c.diags.Add("run", s.Range, "say how long to run: run until 2 [h] every 5 [min], or give output times with run at")
+			return
+		}
 	default:
-		c.diags.Add("run", s.Range, "say how long to run: run until 2 [h] every 5 [min]")
+		c.diags.Add("run", s.Range, "say how long to run: run until 2 [h] every 5 [min] (every and log need until; run at T1, T2 ends at the last time)")
 		return
 	}
 	times := []float64{0}
@@ -1062,13 +1073,13 @@ func (c *checker) checkSettings() {
 func fmtTime(s float64) string {
 	switch {
 	case s >= 86400:
-		return fmt.Sprintf("%g d", s/86400)
+		return fmt.Sprintf("%.4g d", s/86400)
 	case s >= 3600:
-		return fmt.Sprintf("%g h", s/3600)
+		return fmt.Sprintf("%.4g h", s/3600)
 	case s >= 60:
-		return fmt.Sprintf("%g min", s/60)
+		return fmt.Sprintf("%.4g min", s/60)
 	}
-	return fmt.Sprintf("%g s", s)
+	return fmt.Sprintf("%.4g s", s)
 }
 
 var _ = diag.Range{}

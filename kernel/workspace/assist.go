@@ -265,9 +265,9 @@ func (w *Workspace) IsComplete(code string) (string, string) {
 			inStr = true
 		case c == '[':
 			inUnit = true
-		case c == '{':
+		case c == '{' || c == '(':
 			depth++
-		case c == '}':
+		case c == '}' || c == ')':
 			depth--
 		}
 	}
