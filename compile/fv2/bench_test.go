@@ -68,6 +68,9 @@ func BenchmarkIntegrate(b *testing.B) {
 		}
 	}
 	b.StopTimer()
+	// source: the product rule 1 − (1 − U_cyl)(1 − U_slab) (H. S. Carslaw
+	// and J. C. Jaeger, Conduction of Heat in Solids, 2nd ed., §1.15 — from
+	// memory) with the series of solvers/analytic.
 	cyl, _ := analytic.NewFixedSurface(analytic.Cylinder)
 	slab, _ := analytic.NewFixedSurface(analytic.Slab)
 	worst := 0.0
