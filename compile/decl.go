@@ -560,6 +560,9 @@ func (c *checker) condition(b *Body, place string, call *dsl.Call) (*Condition, 
 		var ok bool
 		cond.Value, ok = c.want(a.Value, tctx, dim, role)
 		check(ok)
+		if kind != Flux {
+			c.warnNegative(a.Value, cond.Value, role)
+		}
 	}
 	if a, has := args["coefficient"]; has {
 		v, ok := c.positive(a.Value, units.Velocity, "a film coefficient")
@@ -570,6 +573,7 @@ func (c *checker) condition(b *Body, place string, call *dsl.Call) (*Condition, 
 		var ok bool
 		cond.Value, ok = c.want(a.Value, tctx, units.Concentration, "a bulk value")
 		check(ok)
+		c.warnNegative(a.Value, cond.Value, "a bulk value")
 	}
 	if a, has := args["partition"]; has {
 		v, ok := c.positive(a.Value, units.Dimensionless, "a partition coefficient")
@@ -597,6 +601,9 @@ func (c *checker) condition(b *Body, place string, call *dsl.Call) (*Condition, 
 		if a, has := args["start"]; has {
 			cond.BathStart, ok = c.constant(a.Value, units.Concentration, "a bath's starting value")
 			check(ok)
+			if ok {
+				c.warnNegative(a.Value, Const(cond.BathStart), "a bath's starting value")
+			}
 		}
 		if a, has := args["film"]; has {
 			cond.Coefficient, ok = c.positive(a.Value, units.Velocity, "a film coefficient")
@@ -729,6 +736,7 @@ func (c *checker) checkInitials() {
 		c.massSpecies = sp.Index
 		e, ok := c.want(s.Value, ctx, units.Concentration, "a starting value")
 		c.massSpecies = -1
+		c.warnNegative(s.Value, e, "a starting value")
 		if !ok {
 			for _, r := range regions {
 				c.failed["initially:"+r.Name+":"+sp.Name] = true
@@ -1108,5 +1116,16 @@ func (c *checker) positiveIfConst(e dsl.Expr, x *Expr, dim units.Dim, role strin
 		c.diags.Add("range", e.Span(), "%s evaluates to %g, not a number", role, v)
 	} else if v <= 0 {
 		c.diags.Add("range", e.Span(), "%s must be positive, not %s", role, c.shown(e, v, dim))
+	}
+}
+
+// warnNegative warns about a constant concentration below zero: allowed
+// (deviation variables exist) but more often a slip.
+func (c *checker) warnNegative(e dsl.Expr, x *Expr, role string) {
+	if x == nil {
+		return
+	}
+	if v, ok := x.IsConst(); ok && v < 0 {
+		c.diags.Warn("negative", e.Span(), "%s is negative (%g mol/m^3); concentrations below zero are unusual", role, v)
 	}
 }

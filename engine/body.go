@@ -173,6 +173,9 @@ func solveBody(ctx context.Context, m *compile.Model, b *compile.Body, set compi
 		}
 		sol.atol = atol
 		if m.Run.Steady {
+			if timeDependent(st.conds) || len(disc.stops) > 0 {
+				sol.notes = append(sol.notes, fmt.Sprintf("body %s: the steady state takes time-dependent boundary values and sources at t = 0", b.Name))
+			}
 			ys, err := d.SteadyState(0, y, nil)
 			if err != nil {
 				return nil, &Error{Where: m.Run.Def, Msg: "no steady state found: " + err.Error(), Err: err}
@@ -476,4 +479,18 @@ search:
 		notes = append(notes, fmt.Sprintf("body %s: grid refined for a boundary layer about %.3g m thick (cluster %g, %d cells)", b.Name, delta, try.Cluster, try.Cells))
 	}
 	return try, notes
+}
+
+// timeDependent reports whether any boundary value reads the time.
+func timeDependent(conds map[string]map[int]*compile.Condition) bool {
+	for _, bySpecies := range conds {
+		for _, c := range bySpecies {
+			if c.Value != nil {
+				if _, isConst := c.Value.IsConst(); !isConst {
+					return true
+				}
+			}
+		}
+	}
+	return false
 }

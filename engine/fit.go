@@ -479,8 +479,12 @@ func runFit(ctx context.Context, m *compile.Model, a *compile.Fit, opts *Options
 	if fitRes.Covariance == nil {
 		pt.Notes = append(pt.Notes, "No confidence intervals: these data cannot tell the fitted quantities apart (the sensitivity matrix has not full rank), or there are no more values than quantities.")
 	}
-	pt.Notes = append(pt.Notes, fmt.Sprintf("%d measured values, %d fitted quantities, %d degrees of freedom, Student t = %s. Intervals from the model linearised at the solution; each series weighted by 1/(range of its data).",
-		data.points, n, dof, report.FormatNumber(solvers.StudentTQuantile(1-(1-fitLevel)/2, float64(dof)), 4)))
+	quantities := "quantities"
+	if n == 1 {
+		quantities = "quantity"
+	}
+	pt.Notes = append(pt.Notes, fmt.Sprintf("%d measured values, %d fitted %s, %d degrees of freedom, Student t = %s. Intervals from the model linearised at the solution; each series weighted by 1/(range of its data).",
+		data.points, n, quantities, dof, report.FormatNumber(solvers.StudentTQuantile(1-(1-fitLevel)/2, float64(dof)), 4)))
 	status := "converged"
 	switch fitRes.Status {
 	case solvers.LSStepConvergence:
