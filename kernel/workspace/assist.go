@@ -123,6 +123,10 @@ func (w *Workspace) Complete(code string, cursor int) kernel.Completion {
 		}
 		start, prefix = s, code[s:off]
 		cands = units.Names()
+	} else if keys := contextKeys(code[:start]); keys != nil {
+		// Inside film( … ), sphere( … ) or a species/balance/settings
+		// block: the parameter names that fit there.
+		cands = keys
 	} else if dot := strings.LastIndexByte(prefix, '.'); dot >= 0 {
 		m := w.model()
 		bodyName := prefix[:dot]
@@ -295,4 +299,35 @@ func stripComment(code string) string {
 		return code[:nl+1] + last[:i]
 	}
 	return code
+}
+
+// contextKeys returns the parameter or property names that fit at the end
+// of text: inside an unclosed call of a shape or condition, or inside an
+// unclosed species, balance or settings block; nil elsewhere.
+func contextKeys(text string) []string {
+	depth := 0
+	for i := len(text) - 1; i >= 0; i-- {
+		switch text[i] {
+		case ')', '}':
+			depth++
+		case '(', '{':
+			if depth > 0 {
+				depth--
+				continue
+			}
+			head := strings.TrimRight(text[:i], " \t")
+			if text[i] == '(' {
+				s, _ := wordAt(head, len(head))
+				return compile.Parameters(head[s:])
+			}
+			// A block: the statement keyword starts its line.
+			line := head[strings.LastIndexByte(head, '\n')+1:]
+			fields := strings.Fields(line)
+			if len(fields) > 0 {
+				return compile.BlockKeys(fields[0])
+			}
+			return nil
+		}
+	}
+	return nil
 }

@@ -199,3 +199,28 @@ func contains(xs []string, s string) bool {
 	}
 	return false
 }
+
+func TestCompleteInContext(t *testing.T) {
+	w := New()
+	cases := []struct {
+		code, want string
+	}{
+		{"boundary b.surface: film(co", "coefficient"},
+		{"body b = sphere(ra", "radius"},
+		{"boundary b.surface: bath(volume = 1 [mL], st", "start"},
+		{"species dye {\n  diff", "diffusivity"},
+		{"settings { rt", "rtol"},
+		{"balance dye in bead { so", "source"},
+	}
+	for _, c := range cases {
+		got := w.Complete(c.code, len([]rune(c.code)))
+		if !contains(got.Matches, c.want) {
+			t.Errorf("Complete(%q) = %v, want %q among them", c.code, got.Matches, c.want)
+		}
+		for _, m := range got.Matches {
+			if m == "species" || m == "let" {
+				t.Errorf("Complete(%q) offers the keyword %q inside a call or block", c.code, m)
+			}
+		}
+	}
+}
