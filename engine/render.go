@@ -74,7 +74,7 @@ func replaceNonFinite(r *Result) map[string]any {
 	if len(r.Estimates) > 0 {
 		var est []map[string]any
 		for _, e := range r.Estimates {
-			est = append(est, map[string]any{"body": e.Body, "species": e.Species, "series": e.Series, "unit": e.Unit,
+			est = append(est, map[string]any{"case": e.Case, "body": e.Body, "species": e.Species, "series": e.Series, "unit": e.Unit,
 				"spatial": num(e.Spatial), "temporal": num(e.Temporal), "extrapolated": e.Extrapolated})
 		}
 		out["error_estimates"] = est

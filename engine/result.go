@@ -148,6 +148,9 @@ func (r *Result) Find(name, body, species string) *Series {
 // Estimate is the estimated error of one series over the run: the
 // largest over the output times.
 type Estimate struct {
+	// Case names the swept values the estimate belongs to ("" for the
+	// model as written).
+	Case     string  `json:"case,omitempty"`
 	Body     string  `json:"body"`
 	Species  string  `json:"species"`
 	Series   string  `json:"series"`

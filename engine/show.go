@@ -343,7 +343,11 @@ func estimatesTable(es []Estimate) *report.Table {
 		Columns: []report.Column{{Name: "spatial"}, {Name: "temporal"}}}
 	for _, e := range es {
 		t.Rows = append(t.Rows, []float64{e.Spatial, e.Temporal})
-		t.Notes = append(t.Notes, fmt.Sprintf("row %d: %s of %s in %s [%s]", len(t.Rows), e.Series, e.Species, e.Body, e.Unit))
+		where := ""
+		if e.Case != "" {
+			where = " (" + e.Case + ")"
+		}
+		t.Notes = append(t.Notes, fmt.Sprintf("row %d: %s of %s in %s [%s]%s", len(t.Rows), e.Series, e.Species, e.Body, e.Unit, where))
 	}
 	t.Notes = append(t.Notes, "spatial: |v(N) − v(N/2)|/3, the Richardson estimate of the grid error of v(N); temporal: the change when rtol is divided by 100")
 	if len(es) > 0 && es[0].Extrapolated {

@@ -195,6 +195,17 @@ func gatherSweep(sw *compile.Sweep, points []sweepPoint, res *Result) {
 		}
 		res.Outputs = append(res.Outputs, Output{Kind: "plot", Plot: fam})
 	}
+	// Error estimates of each swept case, labelled by its values.
+	for _, p := range points {
+		for _, e := range p.res.Estimates {
+			label := sw.Param + " = " + formatValue(p.value, sw.Unit)
+			if e.Case != "" {
+				label += ", " + e.Case
+			}
+			e.Case = label
+			res.Estimates = append(res.Estimates, e)
+		}
+	}
 	// Printed text and values, in order, labelled by value.
 	for _, p := range points {
 		for _, o := range p.res.Outputs {
