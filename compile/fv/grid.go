@@ -158,3 +158,25 @@ func layerFaces(a, b float64, n int, lo, hi bool, ratio float64) []float64 {
 	f[0], f[n] = a, b
 	return f
 }
+
+// ClusteredFaces returns n+1 faces on [a, b] clustered toward the ends
+// marked lo and hi with the given ratio of widest to narrowest cell (1:
+// uniform), by the map of layerFaces. Package fv2 uses it for each
+// direction of a short cylinder, so both discretisations share one grid
+// family.
+func ClusteredFaces(a, b float64, n int, lo, hi bool, ratio float64) []float64 {
+	return layerFaces(a, b, n, lo, hi, ratio)
+}
+
+// CellAverage returns the average of f over the cell [a, b] with the
+// geometric weight r^ν of geo (three-point Gauss quadrature).
+func CellAverage(geo Geometry, a, b float64, f func(r float64) float64) float64 {
+	return cellAverage(geo, a, b, f)
+}
+
+// FaceGradient returns the weights on cells f−2 … f+1 of the second-order
+// face gradient (see faceGradient); layer gives each cell's layer, and
+// only cells of the face's layer are used.
+func FaceGradient(geo Geometry, faces []float64, layer []int, f int) [4]float64 {
+	return faceGradient(geo, faces, layer, f)
+}

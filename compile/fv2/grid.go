@@ -2,6 +2,8 @@ package fv2
 
 import (
 	"math"
+
+	"github.com/massline/massline/compile/fv"
 )
 
 // Grid2D is the cell layout; it is read-only (the discretisation uses
@@ -38,92 +40,24 @@ var gauss3 = [3][2]float64{
 // (cyl) or 1, by 3-point Gauss quadrature (exact for polynomials of
 // degree ≤ 4 in the cylinder, ≤ 5 in the slab).
 func cellAverage(cyl bool, a, b float64, f func(x float64) float64) float64 {
-	mid, half := 0.5*(a+b), 0.5*(b-a)
-	num, den := 0.0, 0.0
-	for _, g := range gauss3 {
-		x := mid + half*g[0]
-		w := g[1]
-		if cyl {
-			w *= x
-		}
-		num += w * f(x)
-		den += w
-	}
-	return num / den
+	return fv.CellAverage(geometry(cyl), a, b, f)
 }
 
-// uniformShare is the fraction of a clustered direction's cells that are
-// spread uniformly (as in package fv).
-const uniformShare = 0.15
+// geometry is the fv geometry whose weight a direction uses: r in the
+// radial direction, 1 along the axis.
+func geometry(cyl bool) fv.Geometry {
+	if cyl {
+		return fv.Cylinder
+	}
+	return fv.Slab
+}
 
 // axisFaces returns n+1 faces on [a, b] clustered toward the ends marked
-// lo and hi: the cell density follows
-//
-//	ρ(x) ∝ lo/(x − a + z0) + hi/(b − x + z0) + w,   z0 = (b − a)/(ratio − 1),
-//
-// the map of package fv (widths growing geometrically with the distance
-// from a clustered end, with uniformShare of the cells spread evenly), so
-// that a direction of the short cylinder with one clustered end has
-// exactly the faces of an fv layer with the same cells and Cluster.
+// lo and hi: the grid map of package fv (fv.ClusteredFaces), so that a
+// direction of the short cylinder with one clustered end has exactly the
+// faces of an fv layer with the same cells and Cluster.
 func axisFaces(a, b float64, n int, lo, hi bool, ratio float64) []float64 {
-	f := make([]float64, n+1)
-	L := b - a
-	ends := 0.0
-	if lo {
-		ends++
-	}
-	if hi {
-		ends++
-	}
-	if ratio <= 1 || ends == 0 {
-		for i := range f {
-			f[i] = a + L*float64(i)/float64(n)
-		}
-		f[0], f[n] = a, b
-		return f
-	}
-	z0 := 1 / (ratio - 1) // in units of L
-	g := math.Log(ratio)
-	w := uniformShare / (1 - uniformShare) * ends * g
-	F := func(x float64) (float64, float64) {
-		v, dv := w*x, w
-		if lo {
-			v += math.Log((x + z0) / z0)
-			dv += 1 / (x + z0)
-		}
-		if hi {
-			v += math.Log((1 + z0) / (1 - x + z0))
-			dv += 1 / (1 - x + z0)
-		}
-		return v, dv
-	}
-	total, _ := F(1)
-	x := 0.0
-	for i := 1; i < n; i++ {
-		target := total * float64(i) / float64(n)
-		// Safeguarded Newton from the previous face (F is increasing).
-		lo, hi := x, 1.0
-		for it := 0; it < 100; it++ {
-			v, dv := F(x)
-			if v < target {
-				lo = x
-			} else {
-				hi = x
-			}
-			nx := x - (v-target)/dv
-			if !(nx > lo && nx < hi) {
-				nx = 0.5 * (lo + hi)
-			}
-			if math.Abs(nx-x) <= 1e-15 {
-				x = nx
-				break
-			}
-			x = nx
-		}
-		f[i] = a + L*x
-	}
-	f[0], f[n] = a, b
-	return f
+	return fv.ClusteredFaces(a, b, n, lo, hi, ratio)
 }
 
 // faceGradient returns weights ω on the cells f−2, f−1, f, f+1 (of n
@@ -136,48 +70,7 @@ func axisFaces(a, b float64, n int, lo, hi bool, ratio float64) []float64 {
 // cells only, the two-point difference between centroids. This is the
 // flux stencil of package fv, in one direction.
 func faceGradient(cyl bool, faces []float64, f int) [4]float64 {
-	nc := len(faces) - 1
-	ok := func(c int) bool { return c >= 0 && c < nc }
-	rf := faces[f]
-	mom := func(c int) (float64, float64) {
-		a, b := faces[c], faces[c+1]
-		m1 := cellAverage(cyl, a, b, func(r float64) float64 { return r - rf })
-		m2 := cellAverage(cyl, a, b, func(r float64) float64 { return (r - rf) * (r - rf) })
-		return m1, m2
-	}
-	var om [4]float64
-	fits := 0
-	for _, first := range []int{f - 2, f - 1} {
-		if !ok(first) || !ok(first+2) {
-			continue
-		}
-		var m1, m2 [3]float64
-		for j := range 3 {
-			m1[j], m2[j] = mom(first + j)
-		}
-		// c_j = p0 + g m1_j + k m2_j; differences remove p0.
-		d1, e1 := m1[1]-m1[0], m2[1]-m2[0]
-		d2, e2 := m1[2]-m1[0], m2[2]-m2[0]
-		det := d1*e2 - d2*e1
-		w0 := (-e2 + e1) / det
-		w1 := e2 / det
-		w2 := -e1 / det
-		base := first - (f - 2)
-		om[base] += w0
-		om[base+1] += w1
-		om[base+2] += w2
-		fits++
-	}
-	if fits == 0 {
-		x0 := cellAverage(cyl, faces[f-1], faces[f], func(r float64) float64 { return r })
-		x1 := cellAverage(cyl, faces[f], faces[f+1], func(r float64) float64 { return r })
-		om[1], om[2] = -1/(x1-x0), 1/(x1-x0)
-		return om
-	}
-	for j := range om {
-		om[j] /= float64(fits)
-	}
-	return om
+	return fv.FaceGradient(geometry(cyl), faces, make([]int, len(faces)-1), f)
 }
 
 // closure holds the geometric coefficients of a boundary face of one
